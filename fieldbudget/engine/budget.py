@@ -1,0 +1,370 @@
+"""The budget: a measurement model, its inputs, their correlations and the coverage policy.
+
+A :class:`Budget` is a frozen, checked definition; evaluating it
+(:func:`fieldbudget.engine.evaluate`) gives a result.  Its ``to_dict`` /
+``from_dict`` form is the budget file of fieldbudget (documented in the README).
+
+Correlations come as correlation coefficients between pairs of inputs, and
+from simultaneous readings: for inputs observed together in n sets, the
+correlation of their means is r(q, w) = s(q, w) / (s(q) s(w)) with
+s(q, w) = sum (q_k - q)(w_k - w) / (n (n - 1)) (JCGM 100:2008 5.2.3, eqs. 14, 17).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
+from types import MappingProxyType
+
+import numpy as np
+
+from ..errors import BudgetFileError, CorrelationError, ExpressionError, FieldbudgetError, InputError
+from .distributions import TypeA
+from .model import Model
+from .quantities import InputQuantity
+
+__all__ = ["Budget", "Measurand", "COVERAGE_POLICIES", "DOF_ROUNDING"]
+
+COVERAGE_POLICIES = ("t", "fixed")
+DOF_ROUNDING = ("truncate", "interpolate")
+_TOP_KEYS = {"model", "inputs", "measurand", "measurands", "correlations", "simultaneous", "coverage_probability",
+             "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format"}
+FILE_FORMAT = "fieldbudget-budget/1"
+
+
+@dataclass(frozen=True)
+class Measurand:
+    """The quantity measured: symbol, unit and a description (VIM 2.3)."""
+
+    symbol: str = "y"
+    unit: str = ""
+    description: str = ""
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.symbol, str) or not self.symbol.isidentifier():
+            raise InputError("measurand symbol", self.symbol, "a name made of letters, digits and _")
+
+    def to_dict(self) -> dict:
+        d = {"symbol": self.symbol, "unit": self.unit}
+        if self.description:
+            d["description"] = self.description
+        return d
+
+
+@dataclass(frozen=True)
+class Budget:
+    """A measurement model with its inputs, correlations and coverage policy.
+
+    Parameters
+    ----------
+    model : Model or str
+        The model; a string is taken as one expression.
+    inputs : sequence of InputQuantity
+    measurand : Measurand, optional
+        For a one-output model; renames the model's output to its symbol.
+    measurands : sequence of Measurand, optional
+        For a several-output model, one per output (default: from the outputs).
+    correlations : sequence of (symbol_a, symbol_b, r)
+    simultaneous : sequence of symbol groups observed together (readings)
+    coverage_probability : float
+        p for the expanded uncertainty (default 0.9545, i.e. k = 2 for a normal).
+    coverage_policy : 't' or 'fixed'
+        't': k from the t-distribution at p with nu_eff (JCGM 100:2008 G.3, G.4);
+        'fixed': k = ``coverage_factor`` whatever nu_eff (e.g. the lab's k = 2).
+    coverage_factor : float
+        The k of the 'fixed' policy.
+    dof_rounding : 'truncate' or 'interpolate'
+        How a non-integer nu_eff enters t_p (JCGM 100:2008 G.4.1, note 1).
+    metadata : mapping
+        Free facts recorded with the budget (CODATA edition, procedure, ...).
+    """
+
+    model: Model
+    inputs: tuple[InputQuantity, ...]
+    measurand: Measurand | None = None
+    measurands: tuple[Measurand, ...] = ()
+    correlations: tuple[tuple[str, str, float], ...] = ()
+    simultaneous: tuple[tuple[str, ...], ...] = ()
+    coverage_probability: float = 0.9545
+    coverage_policy: str = "t"
+    coverage_factor: float = 2.0
+    dof_rounding: str = "truncate"
+    title: str = ""
+    metadata: Mapping[str, object] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        model = Model.from_expression(self.model) if isinstance(self.model, str) else self.model
+        if not isinstance(model, Model):
+            raise InputError("model", self.model, "a Model or an expression string")
+        inputs = tuple(self.inputs)
+        symbols = [q.symbol for q in inputs]
+        for q in inputs:
+            if not isinstance(q, InputQuantity):
+                raise InputError("inputs", q, "InputQuantity objects")
+        dup = sorted({s for s in symbols if symbols.count(s) > 1})
+        if dup:
+            raise InputError("inputs", dup[0], "symbols that appear once each")
+        # every model symbol must be an input (re-checked against the inputs so the message lists them)
+        if model.expressions is not None:
+            for e in model.expressions:
+                for s in e.symbols:
+                    if s not in symbols:
+                        raise ExpressionError(
+                            "model", e.text,
+                            f"written in the inputs' symbols ({s!r} is not an input; inputs: "
+                            f"{', '.join(symbols) or 'none'})",
+                        )
+        else:
+            missing = [s for s in model.function_symbols if s not in symbols]
+            if missing:
+                raise InputError("model", model.text(), f"a function of the inputs ({missing[0]!r} is not an input)")
+        # measurands
+        measurands = tuple(self.measurands)
+        if self.measurand is not None:
+            if len(model.outputs) != 1:
+                raise InputError("measurand", self.measurand.symbol,
+                                 "given as 'measurands' (one per output) for a several-output model")
+            measurands = (self.measurand,)
+            if model.outputs[0] != self.measurand.symbol:
+                model = model.renamed((self.measurand.symbol,))
+        if not measurands:
+            measurands = tuple(Measurand(o) for o in model.outputs)
+        if tuple(m.symbol for m in measurands) != model.outputs:
+            raise InputError("measurands", [m.symbol for m in measurands], f"one per output, in order {model.outputs}")
+        clash = [m.symbol for m in measurands if m.symbol in symbols]
+        if clash:
+            raise InputError("measurand symbol", clash[0], "different from every input symbol")
+        object.__setattr__(self, "model", model)
+        object.__setattr__(self, "inputs", inputs)
+        object.__setattr__(self, "measurands", measurands)
+        object.__setattr__(self, "measurand", measurands[0] if len(measurands) == 1 else None)
+        # coverage
+        p = self.coverage_probability
+        if isinstance(p, bool) or not isinstance(p, (int, float)) or not (0 < p < 1):
+            raise InputError("coverage_probability", p, "a number between 0 and 1 (e.g. 0.9545 or 0.95)")
+        if self.coverage_policy not in COVERAGE_POLICIES:
+            raise InputError("coverage_policy", self.coverage_policy, f"one of {COVERAGE_POLICIES}")
+        k = self.coverage_factor
+        if isinstance(k, bool) or not isinstance(k, (int, float)) or not math.isfinite(k) or k <= 0:
+            raise InputError("coverage_factor", k, "a finite number > 0")
+        if self.dof_rounding not in DOF_ROUNDING:
+            raise InputError("dof_rounding", self.dof_rounding, f"one of {DOF_ROUNDING}")
+        object.__setattr__(self, "metadata", MappingProxyType(dict(self.metadata)))
+        # correlations
+        corr = []
+        seen: dict[frozenset, float] = {}
+        for item in self.correlations:
+            try:
+                a, b, r = item
+            except (TypeError, ValueError):
+                raise CorrelationError("correlation", item, "a triple [symbol_a, symbol_b, r]") from None
+            for s in (a, b):
+                if s not in symbols:
+                    raise CorrelationError("correlation", [a, b, r], f"between inputs of the budget ({s!r} is not one)",
+                                           pair=(a, b))
+            if a == b:
+                raise CorrelationError("correlation", [a, b, r], "between two different inputs", pair=(a, b))
+            if isinstance(r, bool) or not isinstance(r, (int, float)) or not math.isfinite(r) or abs(r) > 1:
+                raise CorrelationError(f"correlation between {a!r} and {b!r}", r, "a number in [-1, 1]", pair=(a, b))
+            key = frozenset((a, b))
+            if key in seen and seen[key] != r:
+                raise CorrelationError(f"correlation between {a!r} and {b!r}", r,
+                                       f"given once (it was also given as {seen[key]})", pair=(a, b))
+            seen[key] = float(r)
+            corr.append((a, b, float(r)))
+        object.__setattr__(self, "correlations", tuple(corr))
+        groups = []
+        for g in self.simultaneous:
+            g = tuple(g)
+            for s in g:
+                if s not in symbols:
+                    raise CorrelationError("simultaneous", list(g), f"groups of input symbols ({s!r} is not one)")
+                if not isinstance(self.input(s).distribution, TypeA):
+                    raise CorrelationError("simultaneous", list(g), f"groups of inputs given as readings ({s!r} is not)")
+            n = {self.input(s).distribution.n for s in g}
+            if len(n) != 1:
+                raise CorrelationError("simultaneous", list(g), "inputs with the same number of readings")
+            groups.append(g)
+        object.__setattr__(self, "simultaneous", tuple(groups))
+        self._check_psd()
+
+    # -- access -------------------------------------------------------------------
+    @property
+    def symbols(self) -> tuple[str, ...]:
+        return tuple(q.symbol for q in self.inputs)
+
+    def input(self, symbol: str) -> InputQuantity:
+        for q in self.inputs:
+            if q.symbol == symbol:
+                return q
+        raise InputError("symbol", symbol, f"one of the inputs {list(self.symbols)}")
+
+    def replace(self, **changes) -> "Budget":
+        """A copy with ``changes`` applied."""
+        if "measurand" not in changes and "measurands" not in changes:
+            changes.setdefault("measurands", self.measurands)
+            changes.setdefault("measurand", None)
+        return replace(self, **changes)
+
+    def with_input(self, quantity: InputQuantity) -> "Budget":
+        """A copy with ``quantity`` replacing the input of the same symbol (or appended)."""
+        inputs = list(self.inputs)
+        for i, q in enumerate(inputs):
+            if q.symbol == quantity.symbol:
+                inputs[i] = quantity
+                break
+        else:
+            inputs.append(quantity)
+        return self.replace(inputs=tuple(inputs))
+
+    def correlation_matrix(self) -> np.ndarray:
+        """Correlation coefficients r(x_i, x_j) in the order of :attr:`inputs`."""
+        syms = self.symbols
+        idx = {s: i for i, s in enumerate(syms)}
+        r = np.eye(len(syms))
+        for g in self.simultaneous:
+            data = np.array([self.input(s).distribution.readings for s in g])
+            c = np.corrcoef(data) if len(g) > 1 else np.ones((1, 1))
+            for i, a in enumerate(g):
+                for j, b in enumerate(g):
+                    if i != j:
+                        r[idx[a], idx[b]] = c[i, j]
+        for a, b, v in self.correlations:
+            r[idx[a], idx[b]] = r[idx[b], idx[a]] = v
+        return r
+
+    @property
+    def has_correlations(self) -> bool:
+        return bool(self.correlations or self.simultaneous)
+
+    def _check_psd(self) -> None:
+        if not self.has_correlations:
+            return
+        r = self.correlation_matrix()
+        w = np.linalg.eigvalsh(r)
+        if w[0] >= -1e-10:
+            return
+        syms = self.symbols
+        # name the smallest inconsistent set: a 3x3 principal minor that is negative
+        n = len(syms)
+        for i in range(n):
+            for j in range(i + 1, n):
+                for k in range(j + 1, n):
+                    sub = r[np.ix_([i, j, k], [i, j, k])]
+                    if np.linalg.eigvalsh(sub)[0] < -1e-10:
+                        a, b, c = syms[i], syms[j], syms[k]
+                        raise CorrelationError(
+                            "correlation matrix", f"r({a},{b})={sub[0, 1]:g}, r({a},{c})={sub[0, 2]:g}, "
+                            f"r({b},{c})={sub[1, 2]:g}",
+                            f"positive semi-definite (these three coefficients between {a!r}, {b!r} and {c!r} "
+                            "cannot hold together)", pair=(a, b))
+        raise CorrelationError("correlation matrix", f"smallest eigenvalue {w[0]:.3g}",
+                               "positive semi-definite (the coefficients cannot hold together)")
+
+    # -- budget file --------------------------------------------------------------
+    def to_dict(self) -> dict:
+        """The budget-file content (plain JSON types)."""
+        d: dict = {"format": FILE_FORMAT}
+        if self.title:
+            d["title"] = self.title
+        if len(self.measurands) == 1:
+            d["measurand"] = self.measurands[0].to_dict()
+        else:
+            d["measurands"] = {m.symbol: {k: v for k, v in m.to_dict().items() if k != "symbol"}
+                               for m in self.measurands}
+        d["model"] = self.model.to_json()
+        d["inputs"] = {q.symbol: q.to_dict() for q in self.inputs}
+        if self.correlations:
+            d["correlations"] = [[a, b, r] for a, b, r in self.correlations]
+        if self.simultaneous:
+            d["simultaneous"] = [list(g) for g in self.simultaneous]
+        d["coverage_probability"] = self.coverage_probability
+        if self.coverage_policy != "t":
+            d["coverage_policy"] = self.coverage_policy
+            d["coverage_factor"] = self.coverage_factor
+        if self.dof_rounding != "truncate":
+            d["dof_rounding"] = self.dof_rounding
+        if self.metadata:
+            d["metadata"] = dict(self.metadata)
+        return d
+
+    @classmethod
+    def from_dict(cls, d: Mapping, where: str = "budget") -> "Budget":
+        """Build from budget-file content; every error is a :class:`BudgetFileError`
+        naming ``where``, the JSON pointer of the offending element and what is allowed."""
+        if not isinstance(d, Mapping):
+            raise BudgetFileError(where, "#", "the top level must be a JSON object")
+        unknown = sorted(set(d) - _TOP_KEYS)
+        if unknown:
+            raise BudgetFileError(where, f"#/{unknown[0]}", f"unknown key; allowed keys: {', '.join(sorted(_TOP_KEYS))}")
+        if "format" in d and d["format"] != FILE_FORMAT:
+            raise BudgetFileError(where, "#/format", f"must be {FILE_FORMAT!r} (got {d['format']!r})")
+        if "model" not in d:
+            raise BudgetFileError(where, "#/model", "missing: the model expression (or an object of expressions)")
+        if "inputs" not in d or not isinstance(d["inputs"], Mapping) or not d["inputs"]:
+            raise BudgetFileError(where, "#/inputs", "must be a non-empty object keyed by input symbol")
+        inputs = []
+        for sym, spec in d["inputs"].items():
+            try:
+                inputs.append(InputQuantity.from_dict(sym, spec, where=f"input {sym!r}"))
+            except InputError as err:
+                raise BudgetFileError(where, f"#/inputs/{sym}/{err.field}",
+                                      f"{err.field} must be {err.allowed} (got {err.value!r})") from None
+        raw_model = d["model"]
+        try:
+            if isinstance(raw_model, str):
+                model = Model.from_expression(raw_model)
+            elif isinstance(raw_model, Mapping):
+                model = Model.from_expressions(raw_model)
+            else:
+                raise BudgetFileError(where, "#/model", f"must be an expression string or an object of expressions "
+                                      f"(got {raw_model!r})")
+        except ExpressionError as err:
+            raise BudgetFileError(where, "#/model", f"{err.allowed} (got {err.value!r})") from None
+        kw: dict = {}
+        try:
+            if "measurand" in d:
+                m = d["measurand"]
+                if not isinstance(m, Mapping):
+                    raise BudgetFileError(where, "#/measurand", "must be an object with 'symbol' and 'unit'")
+                kw["measurand"] = Measurand(m.get("symbol", "y"), m.get("unit", ""), m.get("description", ""))
+            if "measurands" in d:
+                ms = d["measurands"]
+                if not isinstance(ms, Mapping):
+                    raise BudgetFileError(where, "#/measurands", "must be an object keyed by output symbol")
+                kw["measurands"] = tuple(Measurand(s, (v or {}).get("unit", ""), (v or {}).get("description", ""))
+                                         for s, v in ms.items())
+        except InputError as err:
+            raise BudgetFileError(where, "#/measurand", f"{err.field} must be {err.allowed} (got {err.value!r})") from None
+        corr = d.get("correlations", [])
+        if not isinstance(corr, list):
+            raise BudgetFileError(where, "#/correlations", "must be a list of [symbol_a, symbol_b, r]")
+        for i, item in enumerate(corr):
+            if not isinstance(item, list) or len(item) != 3:
+                raise BudgetFileError(where, f"#/correlations/{i}", f"must be [symbol_a, symbol_b, r] (got {item!r})")
+        sim = d.get("simultaneous", [])
+        if not isinstance(sim, list) or not all(isinstance(g, list) for g in sim):
+            raise BudgetFileError(where, "#/simultaneous", "must be a list of lists of input symbols")
+        md = d.get("metadata", {})
+        if not isinstance(md, Mapping):
+            raise BudgetFileError(where, "#/metadata", "must be an object")
+        for key in ("coverage_probability", "coverage_policy", "coverage_factor", "dof_rounding", "title"):
+            if key in d:
+                kw[key] = d[key]
+        try:
+            return cls(model=model, inputs=tuple(inputs), correlations=tuple(tuple(c) for c in corr),
+                       simultaneous=tuple(tuple(g) for g in sim), metadata=md, **kw)
+        except CorrelationError as err:
+            pointer = "#/correlations" if err.field.startswith("correlation") else "#/simultaneous"
+            raise BudgetFileError(where, pointer, f"{err.field} must be {err.allowed} (got {err.value!r})") from None
+        except ExpressionError as err:
+            raise BudgetFileError(where, "#/model", f"must be {err.allowed} (got {err.value!r})") from None
+        except InputError as err:
+            raise BudgetFileError(where, f"#/{err.field}", f"must be {err.allowed} (got {err.value!r})") from None
+        except FieldbudgetError:
+            raise
+
+    def __repr__(self) -> str:
+        m = self.model.text()
+        return f"<Budget {m!r}, {len(self.inputs)} inputs, p = {self.coverage_probability:g}>"

@@ -1,0 +1,1 @@
+"""Files: budget files, NMR measurement files, records (JSON documents of our own)."""
