@@ -1,0 +1,15 @@
+"""Plain-Python state behind each form: what the user typed, parsed, and the budget built from it.
+
+Nothing here imports ipywidgets, traitlets or matplotlib; every form in
+:mod:`fieldbudget.widgets` is a thin view over one of these objects, and a
+test can drive them without a browser.
+"""
+
+from __future__ import annotations
+
+from .budget_draft import DISTRIBUTIONS, MEANINGS, ROW_KEYS, BudgetDraft, InputRow
+from .field import Field, message_for
+from .mc_job import MonteCarloJob
+
+__all__ = ["Field", "message_for", "BudgetDraft", "InputRow", "DISTRIBUTIONS", "MEANINGS", "ROW_KEYS",
+           "MonteCarloJob"]
