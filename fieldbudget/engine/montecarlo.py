@@ -1,0 +1,652 @@
+"""Monte Carlo propagation of distributions (JCGM 101:2008).
+
+``run(budget, trials, seed)`` draws every input from its distribution
+(``engine.sampling``, JCGM 101 6.4), evaluates the budget's model over all
+trials (``Model.evaluate_many``), and summarises each output (JCGM 101 7.6,
+7.7): the estimate is the mean of the M model values, the standard
+uncertainty their standard deviation with divisor M - 1, and two coverage
+intervals for coverage probability p:
+
+- probabilistically symmetric: with the values sorted, q = int(p M + 1/2) and
+  r = int((M - q + 1) / 2), the interval [y_(r), y_(r+q)] (7.7.2);
+- shortest: [y_(r*), y_(r*+q)] with r* minimising y_(r+q) - y_(r) over
+  r = 1 ... M - q (7.7.3).
+
+With ``adaptive=True`` the trials run in stages of max(J, 10^4) (J the smallest
+integer >= 100 / (1 - p)) until twice the standard deviation of the stage
+averages of y, u(y) and of both ends of the probabilistically symmetric
+interval is within the numerical tolerance delta of u(y) (JCGM 101 7.9.4,
+delta from 7.9.2; see ``numerical_tolerance``).
+
+Reproducibility.  Trials are grouped in fixed blocks of ``BLOCK_SIZE``; block
+k draws from its own PCG64 stream seeded by
+``numpy.random.SeedSequence(seed).spawn(...)[k]`` (that is
+``SeedSequence(seed, spawn_key=(k,))``), inputs in the budget's order.  Chunks
+(the unit of work that bounds memory) and worker threads only group whole
+blocks, so for a given seed the numbers are bit-identical whatever the chunk
+size or the number of workers.  Model values are kept (8 bytes per trial and
+output); the draws are not, so memory is bounded by the chunk size.
+
+Written by hand because the run loop, the streams per block and the
+JCGM 101 summaries are the standard's procedure, not a library's; numpy does
+the sampling and the arithmetic.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import _display
+from ..errors import InputError, ModelEvaluationError, MonteCarloCancelled
+from . import sampling
+from .distributions import Normal, TypeA
+
+__all__ = [
+    "ADAPTIVE_MAX_TRIALS",
+    "BLOCK_SIZE",
+    "DEFAULT_TRIALS",
+    "GENERATOR",
+    "MonteCarloResult",
+    "MonteCarloVectorResult",
+    "coverage_intervals",
+    "numerical_tolerance",
+    "run",
+]
+
+BLOCK_SIZE = 10_000
+"""Trials per random-number stream; the unit that fixes reproducibility."""
+DEFAULT_TRIALS = 1_000_000
+"""JCGM 101:2008 7.2.1: M = 10^6 can often be expected to give a 95 % interval correct to one or two digits."""
+ADAPTIVE_MAX_TRIALS = 10_000_000
+"""Upper limit of the adaptive procedure unless ``max_trials`` says otherwise (keeps memory bounded)."""
+DEFAULT_CHUNK = 200_000
+HISTOGRAM_BINS = 100
+GENERATOR = "PCG64"
+_WHERE = "Monte Carlo"
+
+
+# --------------------------------------------------------------------------- helpers
+def numerical_tolerance(u: float, significant_digits: int = 2) -> float:
+    """Numerical tolerance delta of a standard uncertainty (JCGM 101:2008 7.9.2).
+
+    u is written as c x 10^l with c an integer of ``significant_digits``
+    digits; delta = 10^l / 2.  E.g. u = 0.02 with one digit gives 0.005
+    (the delta of JCGM 101 9.2, from memory), u = 1.234 with two digits 0.05.
+    Units: those of u.
+    """
+    n = int(significant_digits)
+    if n < 1:
+        raise InputError("significant_digits", significant_digits, "an integer >= 1", _WHERE)
+    u = abs(float(u))
+    if not math.isfinite(u):
+        raise InputError("standard uncertainty", u, "a finite number", "numerical tolerance")
+    if u == 0.0:
+        return 0.0
+    ell = math.floor(math.log10(u)) - (n - 1)
+    if round(u / 10.0**ell) >= 10**n:  # rounding carried into one more digit (e.g. 0.0996 -> 0.10)
+        ell += 1
+    return 0.5 * 10.0**ell
+
+
+def _q_of(p: float, m: int) -> int:
+    """q = p M if integer, else int(p M + 1/2) (JCGM 101 7.7.1); the same formula covers both."""
+    return math.floor(p * m + 0.5 + 1e-9)
+
+
+def coverage_intervals(values: np.ndarray, p: float, *, in_place: bool = False,
+                       bins: int = HISTOGRAM_BINS) -> tuple[tuple[float, float], tuple[float, float], tuple]:
+    """Probabilistically symmetric and shortest 100p % intervals (JCGM 101 7.7) and a histogram.
+
+    Returns ``((low, high), (short_low, short_high), (counts, edges))``.  Only
+    the two tails of the sorted values are needed (every interval end lies in
+    the lowest or the highest M - q values when p >= 1/2), so the values are
+    partitioned and just the tails sorted.  The histogram spans all but the
+    extreme (M - q) / 20 values in each tail, so that a heavy tail does not
+    flatten the plot.  ``in_place=True`` reorders ``values`` to save memory.
+    """
+    y = values if in_place else np.array(values, dtype=np.float64)
+    m = y.size
+    q = _q_of(p, m)
+    if q < 1 or m - q < 1:
+        raise InputError("trials", m, f"large enough that {p:g} x trials leaves at least one trial outside "
+                         "the interval (JCGM 101 7.2.2: M much larger than 1/(1 - p))", _WHERE)
+    tail = m - q
+    if tail <= q:
+        y.partition((tail - 1, q))
+        y[:tail].sort()
+        y[q:].sort()
+    else:
+        y.sort()
+    low_idx = y[:tail]
+    high_idx = y[q:]
+    r = (m - q + 1) // 2                      # 1-based, JCGM 101 7.7.2
+    symmetric = (float(y[r - 1]), float(y[r + q - 1]))
+    widths = high_idx - low_idx               # interval [y_(r), y_(r+q)], r = 1 ... M - q
+    rs = int(np.argmin(widths))
+    shortest = (float(low_idx[rs]), float(high_idx[rs]))
+    j = tail // 20
+    lo, hi = float(y[j]), float(y[m - 1 - j])
+    if not hi > lo:
+        lo, hi = lo - 0.5, hi + 0.5 if lo == hi else hi
+    counts, edges = np.histogram(y, bins=bins, range=(lo, hi))
+    return symmetric, shortest, (tuple(int(c) for c in counts), tuple(float(e) for e in edges))
+
+
+def _stream(seed: int, block: int) -> np.random.Generator:
+    # Same as SeedSequence(seed).spawn(block + 1)[block], without spawning all earlier children.
+    return np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(block,))))
+
+
+# --------------------------------------------------------------------------- results
+@dataclass(frozen=True)
+class MonteCarloResult:
+    """Monte Carlo result for one output (JCGM 101:2008 7.6, 7.7).
+
+    ``estimate`` and ``standard_uncertainty`` in the output's unit;
+    ``interval`` is the probabilistically symmetric coverage interval and
+    ``shortest_interval`` the shortest one, both for ``coverage_probability``.
+    ``seed``, ``generator``, ``numpy_version`` and ``block_size`` are what is
+    needed to repeat the run bit for bit; ``evaluation`` says whether the model
+    ran ``"vectorised"`` or ``"trial by trial"``.  ``histogram`` is
+    ``(counts, edges)`` for plots.
+    """
+
+    estimate: float
+    standard_uncertainty: float
+    coverage_probability: float
+    interval: tuple[float, float]
+    shortest_interval: tuple[float, float]
+    trials: int
+    seed: int
+    generator: str
+    numpy_version: str
+    evaluation: str
+    adaptive: bool
+    histogram: tuple[tuple[int, ...], tuple[float, ...]] = field(repr=False)
+    block_size: int = BLOCK_SIZE
+    output: str = "y"
+    unit: str = ""
+    stabilised: bool | None = None
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def coverage_interval(self) -> tuple[float, float]:
+        """Alias of ``interval`` (the probabilistically symmetric one)."""
+        return self.interval
+
+    def to_dict(self) -> dict:
+        counts, edges = self.histogram
+        return {
+            "output": self.output,
+            "unit": self.unit,
+            "value": self.estimate,
+            "u": self.standard_uncertainty,
+            "coverage_probability": self.coverage_probability,
+            "interval": [self.interval[0], self.interval[1]],
+            "shortest_interval": [self.shortest_interval[0], self.shortest_interval[1]],
+            "trials": self.trials,
+            "seed": self.seed,
+            "generator": self.generator,
+            "numpy_version": self.numpy_version,
+            "block_size": self.block_size,
+            "evaluation": self.evaluation,
+            "adaptive": self.adaptive,
+            "stabilised": self.stabilised,
+            "histogram": {"counts": list(counts), "edges": list(edges)},
+            "warnings": list(self.warnings),
+        }
+
+    def _line(self) -> str:
+        unit = f" {self.unit}" if self.unit else ""
+        lo, hi = self.interval
+        return (f"{self.output} = {_display.fmt(self.estimate)}{unit}, u = {_display.fmt(self.standard_uncertainty, 3)}"
+                f"{unit}, {self.coverage_probability * 100:g} % [{_display.fmt(lo)}, {_display.fmt(hi)}]"
+                f", M = {self.trials}, seed = {self.seed}")
+
+    def __repr__(self) -> str:
+        return f"MonteCarloResult({self._line()})"
+
+    def _repr_html_(self) -> str:
+        unit = self.unit
+        rows = [
+            ("estimate (mean)", _display.fmt(self.estimate), unit),
+            ("standard uncertainty", _display.fmt(self.standard_uncertainty, 3), unit),
+            (f"{self.coverage_probability * 100:g} % interval, probabilistically symmetric",
+             f"[{_display.fmt(self.interval[0])}, {_display.fmt(self.interval[1])}]", unit),
+            (f"{self.coverage_probability * 100:g} % interval, shortest",
+             f"[{_display.fmt(self.shortest_interval[0])}, {_display.fmt(self.shortest_interval[1])}]", unit),
+            ("trials M", str(self.trials) + (" (adaptive)" if self.adaptive else ""), ""),
+            ("seed", str(self.seed), ""),
+            ("generator", f"{self.generator}, numpy {self.numpy_version}, blocks of {self.block_size}", ""),
+            ("model evaluation", self.evaluation, ""),
+        ]
+        body = _display.html_table(("item", "value", "unit"), rows,
+                                   caption=f"Monte Carlo (JCGM 101) for {self.output}")
+        if self.warnings:
+            body += "<ul>" + "".join(f"<li>{_display.escape(w)}</li>" for w in self.warnings) + "</ul>"
+        return _display.html_block("Monte Carlo result", body)
+
+
+@dataclass(frozen=True)
+class MonteCarloVectorResult:
+    """Monte Carlo results of a model with several outputs: one ``MonteCarloResult`` each.
+
+    ``correlation`` is the sample correlation matrix of the outputs
+    (JCGM 102:2011 7.5 generalises the summary to several outputs).
+    """
+
+    results: tuple[MonteCarloResult, ...]
+    correlation: tuple[tuple[float, ...], ...]
+
+    @property
+    def outputs(self) -> tuple[str, ...]:
+        return tuple(r.output for r in self.results)
+
+    def __getitem__(self, key: int | str) -> MonteCarloResult:
+        if isinstance(key, str):
+            for r in self.results:
+                if r.output == key:
+                    return r
+            raise KeyError(key)
+        return self.results[key]
+
+    def __len__(self) -> int:
+        return len(self.results)
+
+    @property
+    def trials(self) -> int:
+        return self.results[0].trials
+
+    @property
+    def seed(self) -> int:
+        return self.results[0].seed
+
+    def to_dict(self) -> dict:
+        return {"outputs": [r.to_dict() for r in self.results],
+                "correlation": [list(row) for row in self.correlation],
+                "trials": self.trials, "seed": self.seed}
+
+    def __repr__(self) -> str:
+        return "MonteCarloVectorResult(" + "; ".join(r._line() for r in self.results) + ")"
+
+    def _repr_html_(self) -> str:
+        return "".join(r._repr_html_() for r in self.results)
+
+
+# --------------------------------------------------------------------------- plan
+@dataclass(frozen=True)
+class _Group:
+    """Correlated inputs drawn together: multivariate normal, or multivariate t when ``dof`` is finite."""
+
+    index: tuple[int, ...]
+    factor: np.ndarray          # L with L L^T = R over ``index``
+    dof: float
+
+
+@dataclass(frozen=True)
+class _Plan:
+    names: tuple[str, ...]
+    estimates: tuple[float, ...]
+    distributions: tuple
+    groups: tuple[_Group, ...]
+    grouped: frozenset[int]
+    model: object
+    outputs: tuple[str, ...]
+    units: tuple[str, ...]
+
+
+def _sampled_dof(d) -> float:
+    return float(d.n - 1) if isinstance(d, TypeA) else float(d.dof)
+
+
+def _plan(budget) -> _Plan:
+    inputs = tuple(budget.inputs)
+    names = tuple(q.symbol for q in inputs)
+    estimates = tuple(float(q.estimate) for q in inputs)
+    dists = tuple(q.distribution for q in inputs)
+    groups: list[_Group] = []
+    if budget.has_correlations:
+        R = np.asarray(budget.correlation_matrix(), dtype=float)
+        linked = (np.abs(R - np.diag(np.diag(R))) > 0)
+        seen: set[int] = set()
+        for start in range(len(names)):           # connected sets of correlated inputs, in input order
+            if start in seen or not linked[start].any():
+                continue
+            comp, todo = {start}, [start]
+            while todo:
+                i = todo.pop()
+                for j in np.flatnonzero(linked[i]):
+                    if int(j) not in comp:
+                        comp.add(int(j))
+                        todo.append(int(j))
+            idx = tuple(sorted(comp))
+            seen |= comp
+            for i in idx:
+                if not isinstance(dists[i], (Normal, TypeA)):
+                    raise InputError(
+                        "distribution", dists[i].describe(),
+                        "normal (or readings) for an input correlated with others (JCGM 101 6.4.8: "
+                        "correlated inputs are drawn as a multivariate normal)", f"input {names[i]!r}")
+            dofs = {_sampled_dof(dists[i]) for i in idx}
+            if len(dofs) > 1:
+                listing = ", ".join(f"{names[i]}: {_sampled_dof(dists[i]):g}" for i in idx)
+                raise InputError(
+                    "degrees of freedom", listing,
+                    "the same for all correlated inputs (infinite for a multivariate normal, JCGM 101 6.4.8; "
+                    "one finite value for a multivariate t)", f"inputs {', '.join(repr(names[i]) for i in idx)}")
+            groups.append(_Group(idx, sampling.correlation_factor(R[np.ix_(idx, idx)]), dofs.pop()))
+    model = budget.model
+    outputs = tuple(model.outputs)
+    measurands = tuple(getattr(budget, "measurands", ()) or ())
+    units = tuple(str(m.unit or "") for m in measurands) if len(measurands) == len(outputs) else ("",) * len(outputs)
+    grouped = frozenset(i for g in groups for i in g.index)
+    return _Plan(names, estimates, dists, tuple(groups), grouped, model, outputs, units)
+
+
+def _fill_chunk(plan: _Plan, seed: int, first_block: int, n_blocks: int, total: int,
+                x: np.ndarray) -> int:
+    """Draw the inputs of blocks ``first_block ...`` into ``x`` (n_inputs, >= n); return n trials.
+
+    Per block, from that block's stream: one call sequence per input in input
+    order (standard normals for a correlated input), then one chi-square draw
+    per multivariate-t group; then each group is mixed elementwise,
+    x = est + u (L z) [sqrt(nu / w)] (JCGM 101 6.4.8.4; 6.4.9 for the t form).
+    """
+    off = 0
+    for b in range(first_block, first_block + n_blocks):
+        n = min(BLOCK_SIZE, total - b * BLOCK_SIZE)
+        if n <= 0:
+            break
+        rng = _stream(seed, b)
+        for i, (d, est) in enumerate(zip(plan.distributions, plan.estimates)):
+            row = x[i, off:off + n]
+            if i in plan.grouped:
+                sampling.draw_standard(rng, row)
+            else:
+                sampling.draw_into(d, est, rng, row)
+        for g in plan.groups:
+            scale = None
+            if not math.isinf(g.dof):
+                scale = np.sqrt(g.dof / rng.chisquare(g.dof, size=n))
+            z = x[list(g.index), off:off + n].copy()
+            for a, i in enumerate(g.index):
+                row = x[i, off:off + n]
+                np.multiply(z[0], g.factor[a, 0], out=row)
+                for k in range(1, len(g.index)):
+                    if g.factor[a, k] != 0.0:
+                        row += g.factor[a, k] * z[k]
+                if scale is not None:
+                    row *= scale
+                row *= plan.distributions[i].standard_uncertainty
+                row += plan.estimates[i]
+        off += n
+    return off
+
+
+def _evaluate_chunk(plan: _Plan, seed: int, first_block: int, n_blocks: int, total: int,
+                    out: np.ndarray, start: int) -> str:
+    x = np.empty((len(plan.names), n_blocks * BLOCK_SIZE), dtype=np.float64)
+    n = _fill_chunk(plan, seed, first_block, n_blocks, total, x)
+    values, how = plan.model.evaluate_many({nm: x[i, :n] for i, nm in enumerate(plan.names)})
+    values = np.asarray(values, dtype=np.float64).reshape(len(plan.outputs), n)
+    out[:, start:start + n] = values
+    return how
+
+
+# --------------------------------------------------------------------------- run
+def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adaptive: bool = False,
+        coverage_probability: float | None = None, significant_digits: int = 2,
+        chunk_size: int | None = None, progress: Callable[[int, int], object] | None = None,
+        should_stop: Callable[[], bool] | None = None, workers: int = 1,
+        max_trials: int | None = None) -> MonteCarloResult | MonteCarloVectorResult:
+    """Propagate the budget's input distributions through its model (JCGM 101:2008).
+
+    Parameters
+    ----------
+    budget : Budget
+        Inputs, correlations and model.  A model with several outputs is run
+        for all of them at once and gives a :class:`MonteCarloVectorResult`.
+    trials : int
+        M, the number of trials (default 10^6, JCGM 101 7.2.1).  Ignored when
+        ``adaptive``.
+    seed : int, optional
+        Seed of ``numpy.random.SeedSequence``; when omitted a fresh one is drawn
+        from the operating system's entropy and recorded in the result.
+    adaptive : bool
+        Run the adaptive procedure of JCGM 101 7.9.4 instead of a fixed M.
+    coverage_probability : float, optional
+        p of the coverage intervals; default the budget's (else 0.95).
+    significant_digits : int
+        Digits of u(y) held meaningful, for the adaptive procedure's tolerance
+        (JCGM 101 7.9.2).
+    chunk_size : int, optional
+        Trials evaluated at once (rounded up to whole blocks of ``BLOCK_SIZE``);
+        bounds memory, never changes the numbers.
+    progress : callable, optional
+        ``progress(done, planned)`` between chunks (``planned`` may grow in the
+        adaptive procedure).
+    should_stop : callable, optional
+        Polled between chunks; returning True raises
+        :class:`~fieldbudget.errors.MonteCarloCancelled`.
+    workers : int
+        Threads evaluating chunks at the same time (numpy releases the GIL in
+        its loops); never changes the numbers.
+    max_trials : int, optional
+        Upper limit of the adaptive procedure (default ``ADAPTIVE_MAX_TRIALS``).
+    """
+    p = _coverage(budget, coverage_probability)
+    workers = _positive_int("workers", workers)
+    if chunk_size is None:
+        chunk_blocks = max(1, DEFAULT_CHUNK // BLOCK_SIZE)
+    else:
+        chunk_blocks = max(1, -(-_positive_int("chunk_size", chunk_size) // BLOCK_SIZE))
+    if seed is None:
+        seed = int(np.random.SeedSequence().entropy)
+    elif isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise InputError("seed", seed, "an integer >= 0", _WHERE)
+    seed = int(seed)
+    plan = _plan(budget)
+
+    if adaptive:
+        stage = _adaptive_stage(p)
+        cap = _positive_int("max_trials", ADAPTIVE_MAX_TRIALS if max_trials is None else max_trials)
+        cap = max(stage * 2, cap // stage * stage)
+        values, hows, stabilised = _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks,
+                                                 workers, progress, should_stop)
+    else:
+        m = _positive_int("trials", trials)
+        values = np.empty((len(plan.outputs), m), dtype=np.float64)
+        hows = _run_blocks(plan, seed, m, 0, -(-m // BLOCK_SIZE), chunk_blocks, workers, values,
+                           progress, should_stop, m, 0)
+        stabilised = None
+    return _summarise(plan, values, p, seed, hows, adaptive, stabilised)
+
+
+def _positive_int(name: str, value: object) -> int:
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 1:
+        raise InputError(name, value, "an integer >= 1", _WHERE)
+    return int(value)
+
+
+def _coverage(budget, p: float | None) -> float:
+    if p is None:
+        p = getattr(budget, "coverage_probability", None) or 0.95
+    try:
+        pf = float(p)
+    except (TypeError, ValueError):
+        raise InputError("coverage_probability", p, "a number between 0 and 1", _WHERE) from None
+    if not 0.0 < pf < 1.0:
+        raise InputError("coverage_probability", p, "a number between 0 and 1", _WHERE)
+    return pf
+
+
+def _adaptive_stage(p: float) -> int:
+    """Trials per stage: max(J, 10^4), J = ceil(100 / (1 - p)) (JCGM 101 7.9.4 b), in whole blocks."""
+    j = math.ceil(100.0 / (1.0 - p) - 1e-9)
+    m = max(j, 10_000)
+    return -(-m // BLOCK_SIZE) * BLOCK_SIZE
+
+
+def _run_blocks(plan, seed, total, first_block, end_block, chunk_blocks, workers, out, progress,
+                should_stop, planned, done_before) -> list[str]:
+    """Evaluate blocks [first_block, end_block) into ``out`` (columns offset by first_block)."""
+    hows: list[str] = []
+    starts = list(range(first_block, end_block, chunk_blocks))
+    base = first_block * BLOCK_SIZE
+
+    def job(b0: int) -> tuple[int, str]:
+        nb = min(chunk_blocks, end_block - b0)
+        how = _evaluate_chunk(plan, seed, b0, nb, total, out, b0 * BLOCK_SIZE - base)
+        return min(nb * BLOCK_SIZE, total - b0 * BLOCK_SIZE), how
+
+    done = done_before
+    if workers == 1:
+        for b0 in starts:
+            if should_stop is not None and should_stop():
+                raise MonteCarloCancelled(done)
+            n, how = job(b0)
+            hows.append(how)
+            done += n
+            if progress is not None:
+                progress(done, planned)
+        return hows
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        pending: set = set()
+        it = iter(starts)
+        cancelled = False
+        while True:
+            while not cancelled and len(pending) < workers:
+                b0 = next(it, None)
+                if b0 is None:
+                    break
+                pending.add(pool.submit(job, b0))
+            if not pending:
+                break
+            finished, pending = wait(pending, return_when=FIRST_COMPLETED)
+            for f in finished:
+                n, how = f.result()
+                hows.append(how)
+                done += n
+                if progress is not None:
+                    progress(done, planned)
+            if should_stop is not None and should_stop():
+                cancelled = True
+        if cancelled:
+            wait(pending)
+            raise MonteCarloCancelled(done + sum(f.result()[0] for f in pending))
+    return hows
+
+
+def _sym_ends(y: np.ndarray, p: float) -> tuple[float, float]:
+    m = y.size
+    q = _q_of(p, m)
+    r = (m - q + 1) // 2
+    part = np.partition(y, (r - 1, r + q - 1))
+    return float(part[r - 1]), float(part[r + q - 1])
+
+
+def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, workers, progress, should_stop):
+    """JCGM 101:2008 7.9.4: stages of ``stage`` trials until 2 s <= delta for y, u, y_low, y_high."""
+    n_out = len(plan.outputs)
+    values = np.empty((n_out, cap), dtype=np.float64)   # pages are touched only as trials are written
+    blocks_per_stage = stage // BLOCK_SIZE
+    stats: list[list[tuple[float, float, float, float]]] = [[] for _ in range(n_out)]
+    hows: list[str] = []
+    done = 0
+    h = 0
+    planned = 2 * stage
+    chunk_stages = max(1, chunk_blocks // blocks_per_stage) * max(1, workers)
+    stabilised = False
+    grow = 2                      # stages per round: 2, 4, 8, ... so that an early stop wastes little
+    while done < cap and not stabilised:
+        n_st = min(grow, chunk_stages, (cap - done) // stage)
+        grow *= 2
+        b0 = done // BLOCK_SIZE
+        hows += _run_blocks(plan, seed, cap, b0, b0 + n_st * blocks_per_stage, chunk_blocks, workers,
+                            values[:, done:], None, should_stop, planned, done)
+        for _ in range(n_st):
+            lo_, hi_ = h * stage, (h + 1) * stage
+            h += 1
+            for o in range(n_out):
+                y = values[o, lo_:hi_]
+                stats[o].append((float(np.mean(y)), float(np.std(y, ddof=1)), *_sym_ends(y, p)))
+            if h >= 2 and _stable(values[:, :h * stage], stats, h, significant_digits):
+                stabilised = True
+                break
+        done = h * stage
+        if not stabilised and h >= 2:
+            planned = min(cap, max(done + stage, _stages_needed(values[:, :done], stats, h, significant_digits)
+                                   * stage))
+        else:
+            planned = done if stabilised else max(planned, done + stage)
+        if progress is not None:
+            progress(done, planned)
+    return values[:, :done], hows, stabilised
+
+
+def _stage_spread(stats_o, h) -> np.ndarray:
+    a = np.asarray(stats_o[:h], dtype=np.float64)           # (h, 4): y, u, y_low, y_high
+    return np.sqrt(np.sum((a - a.mean(axis=0)) ** 2, axis=0) / (h * (h - 1)))
+
+
+def _stable(values, stats, h, digits) -> bool:
+    for o in range(values.shape[0]):
+        delta = numerical_tolerance(float(np.std(values[o], ddof=1)), digits)
+        if np.any(2.0 * _stage_spread(stats[o], h) > delta):
+            return False
+    return True
+
+
+def _stages_needed(values, stats, h, digits) -> int:
+    """Rough number of stages after which 2 s <= delta, since s falls as 1/sqrt(h) (for progress only)."""
+    need = h + 1
+    for o in range(values.shape[0]):
+        delta = numerical_tolerance(float(np.std(values[o], ddof=1)), digits)
+        s = float(np.max(_stage_spread(stats[o], h)))
+        if delta > 0:
+            need = max(need, math.ceil(h * (2.0 * s / delta) ** 2))
+    return need
+
+
+def _summarise(plan: _Plan, values: np.ndarray, p: float, seed: int, hows: list[str], adaptive: bool,
+               stabilised: bool | None):
+    m = values.shape[1]
+    how = "trial by trial" if "trial by trial" in hows else (hows[0] if hows else "vectorised")
+    bad = ~np.isfinite(values)
+    if bad.any():
+        o, j = (int(v) for v in np.argwhere(bad)[0])
+        raise ModelEvaluationError(
+            f"the model gave a non-finite value for {plan.outputs[o]} in {int(bad[o].sum())} of {m} "
+            f"Monte Carlo trials (first at trial {j}); check the input distributions against the model's "
+            "domain, e.g. a denominator or a square root that can reach zero or below")
+    warnings: list[str] = []
+    for nm, d in zip(plan.names, plan.distributions):
+        if isinstance(d, (Normal, TypeA)) and (nu := _sampled_dof(d)) <= 2:
+            warnings.append(f"input {nm!r} is drawn from a t-distribution with {nu:g} degrees of freedom, "
+                            "which has no finite variance (JCGM 101 6.4.9): u(y) is not a stable figure")
+    if adaptive and not stabilised:
+        warnings.append(f"the adaptive procedure did not stabilise within {m} trials; the results are "
+                        "from all of them")
+    correlation: tuple[tuple[float, ...], ...] = ((1.0,),)
+    if len(plan.outputs) > 1:  # before the intervals reorder each row in place
+        c = np.corrcoef(values)
+        correlation = tuple(tuple(float(v) for v in r) for r in c)
+    summary = [(float(np.mean(values[o])), float(np.std(values[o], ddof=1))) for o in range(len(plan.outputs))]
+    results = []
+    for o, name in enumerate(plan.outputs):
+        est, u = summary[o]
+        sym, short, hist = coverage_intervals(values[o], p, in_place=True)
+        results.append(MonteCarloResult(
+            estimate=est, standard_uncertainty=u, coverage_probability=p, interval=sym,
+            shortest_interval=short, trials=m, seed=seed, generator=GENERATOR,
+            numpy_version=np.__version__, evaluation=how, adaptive=adaptive, histogram=hist,
+            block_size=BLOCK_SIZE, output=name, unit=plan.units[o], stabilised=stabilised,
+            warnings=tuple(warnings)))
+    if len(results) == 1:
+        return results[0]
+    return MonteCarloVectorResult(tuple(results), correlation)
