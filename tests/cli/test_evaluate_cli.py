@@ -1,0 +1,58 @@
+"""`fieldbudget evaluate`: table, JSON keys, one-line errors with a non-zero exit."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from fieldbudget.cli import main
+
+BUDGET = {
+    "measurand": {"symbol": "P", "unit": "W"},
+    "model": "V**2 / R",
+    "inputs": {
+        "V": {"value": 10.0, "u": 0.01, "unit": "V", "source": "voltmeter cert. FB-V-001"},
+        "R": {"value": 100.0, "half_width": 0.2, "distribution": "rectangular", "unit": "ohm"},
+        "n": {"readings": [1.0, 1.1, 0.9, 1.0], "unit": "1"},
+    },
+    "coverage_probability": 0.95,
+}
+
+
+@pytest.fixture
+def budget_file(tmp_path):
+    p = tmp_path / "power.json"
+    p.write_text(json.dumps(BUDGET))
+    return p
+
+
+def test_json_keys(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    for key in ("value", "u", "nu_eff", "k", "U", "coverage_probability", "contributions"):
+        assert key in out
+    assert {"symbol", "sensitivity", "u_contribution"} <= set(out["contributions"][0])
+    assert out["value"] == pytest.approx(1.0)
+
+
+def test_table_output(budget_file, capsys):
+    assert main(["evaluate", str(budget_file)]) == 0
+    out = capsys.readouterr().out
+    assert "voltmeter cert. FB-V-001" in out and "P = (" in out
+
+
+def test_user_mistake_is_one_line_and_exit_2(tmp_path):
+    p = tmp_path / "bad.json"
+    p.write_text(json.dumps({"model": "x", "inputs": {"x": {"value": 1, "u": 0.1, "dof": 0}}}))
+    proc = subprocess.run([sys.executable, "-m", "fieldbudget", "evaluate", str(p)], capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert proc.stderr.strip().count("\n") == 0 and "Traceback" not in proc.stderr
+    assert proc.stderr.strip() == f"fieldbudget evaluate: {p}, at #/inputs/x/dof: dof must be a number > 0 or infinite (got 0)"
+
+
+def test_missing_file(tmp_path, capsys):
+    assert main(["evaluate", str(tmp_path / "nope.json")]) == 2
+    assert "no such file" in capsys.readouterr().err

@@ -1,0 +1,111 @@
+"""Unit tests of the engine: forms of results, budget files, function models, correlations."""
+
+from __future__ import annotations
+
+import json
+import math
+from html.parser import HTMLParser
+
+import numpy as np
+import pytest
+
+from fieldbudget.engine import (
+    Budget,
+    CurvilinearTrapezoid,
+    InputQuantity,
+    Measurand,
+    Model,
+    evaluate,
+)
+from fieldbudget.files.budget_file import load_budget, save_budget
+
+
+class _Cells(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.cells, self._in = [], False
+
+    def handle_starttag(self, tag, attrs):
+        self._in = tag in ("td", "th")
+
+    def handle_data(self, data):
+        if self._in:
+            self.cells.append(data)
+
+
+def test_distribution_divisors():
+    # GUM 4.3.7 (sqrt 3), 4.3.9 (sqrt 6); arcsine sqrt 2 (EA-4/02); curvilinear trapezoid JCGM 101 6.4.3
+    assert InputQuantity.rectangular("a", 0, 3).standard_uncertainty == pytest.approx(3 / math.sqrt(3))
+    assert InputQuantity.triangular("a", 0, 3).standard_uncertainty == pytest.approx(3 / math.sqrt(6))
+    assert InputQuantity.arcsine("a", 0, 3).standard_uncertainty == pytest.approx(3 / math.sqrt(2))
+    assert CurvilinearTrapezoid(2.0, 0.3).standard_uncertainty == pytest.approx(math.sqrt(4 / 3 + 0.09 / 9))
+    assert InputQuantity.expanded("a", 0, 0.075, 3).standard_uncertainty == pytest.approx(0.025)
+
+
+def test_type_a_mean_sdom_and_dof():
+    q = InputQuantity.from_readings("f", [1.0, 2.0, 3.0, 4.0])
+    data = np.array([1.0, 2.0, 3.0, 4.0])
+    assert q.estimate == 2.5 and q.dof == 3 and q.evaluation_type == "A"
+    assert q.standard_uncertainty == pytest.approx(data.std(ddof=1) / 2)  # numpy: s / sqrt(n)
+
+
+def test_result_forms(power_budget):
+    r = evaluate(power_budget)
+    assert repr(r) == "<BudgetResult P = 1 W, u = 0.00231 W, k = 2.00, U = 0.00462 W (p = 95.45 %)>"
+    d = r.to_dict()
+    json.dumps(d)  # plain types only
+    assert d["nu_eff"] is None and d["k"] == 2.0 and [c["symbol"] for c in d["contributions"]] == ["V", "R"]
+    assert d["statement"].startswith("P = (1.0000 ± 0.0046) W.")
+    cells = _Cells()
+    cells.feed(r._repr_html_())
+    assert "u(x_i)" in cells.cells and "voltmeter cert. FB-V-001" in cells.cells
+
+
+def test_html_escapes_user_text():
+    b = Budget(model="a", inputs=(InputQuantity.normal("a", 1, 0.1, source="<b>&cert"),))
+    html = evaluate(b)._repr_html_()
+    assert "<b>&cert" not in html and "&lt;b&gt;&amp;cert" in html
+
+
+def test_budget_file_round_trip(tmp_path, power_budget):
+    p = save_budget(power_budget.replace(correlations=()), tmp_path / "p.json")
+    again = load_budget(p)
+    assert again.to_dict() == power_budget.to_dict()
+    assert evaluate(again).to_dict() == evaluate(power_budget).to_dict()
+
+
+def test_function_model_matches_expression(power_budget):
+    def power(V, R):
+        return V**2 / R
+
+    fb = power_budget.replace(model=Model.from_function(power), measurand=Measurand("P", "W"))
+    a, b = evaluate(power_budget), evaluate(fb)
+    assert b.standard_uncertainty == pytest.approx(a.standard_uncertainty, rel=1e-12)
+
+
+def test_numpy_only_function_model_uses_central_differences(power_budget):
+    def power(V, R):
+        return float(np.square(V) / R) if np.ndim(V) == 0 else np.square(V) / R
+
+    fb = power_budget.replace(model=Model.from_function(power), measurand=Measurand("P", "W"))
+    r = evaluate(fb)
+    assert r.standard_uncertainty == pytest.approx(evaluate(power_budget).standard_uncertainty, rel=1e-6)
+
+
+def test_correlated_inputs_use_the_full_covariance():
+    # y = a * b, r(a,b) = 0.5: u^2 = (b ua)^2 + (a ub)^2 + 2 b a ua ub r (GUM 5.2.2, eq. 16)
+    b = Budget(model="a*b", inputs=(InputQuantity.normal("a", 2.0, 0.1), InputQuantity.normal("b", 3.0, 0.2)),
+               correlations=(("a", "b", 0.5),))
+    r = evaluate(b)
+    expected = math.sqrt((3 * 0.1) ** 2 + (2 * 0.2) ** 2 + 2 * 3 * 2 * 0.1 * 0.2 * 0.5)
+    assert r.standard_uncertainty == pytest.approx(expected, rel=1e-12)
+    assert r.correlation_variance == pytest.approx(2 * 3 * 2 * 0.1 * 0.2 * 0.5)
+    assert any("correlated" in w for w in r.warnings)
+
+
+def test_fixed_coverage_policy():
+    b = Budget(model="a", inputs=(InputQuantity.normal("a", 1, 0.1, dof=3),), coverage_policy="fixed")
+    r = evaluate(b)
+    assert r.coverage_factor == 2.0 and "laboratory's policy" in r.statement()
+    t = evaluate(b.replace(coverage_policy="t"))
+    assert round(t.coverage_factor, 2) == 3.31  # JCGM 100 Table G.2: t_95.45(3) = 3.31
