@@ -20,13 +20,14 @@ from types import MappingProxyType
 from typing import Any
 
 from .. import _display
-from ..errors import InputError
+from ..errors import FieldbudgetError, InputError
 from .procedure import AcceptanceLimit, Component, Procedure, Step
 
 __all__ = ["ProcedureRun", "LimitVerdict", "AcceptanceReport", "result_quantities"]
 
 Listener = Callable[["ProcedureRun"], None]
 RECORD_PREFIX = "record."
+_LATEST = object()
 _SPLIT = re.compile(r"[\s,;]+")
 
 
@@ -87,6 +88,15 @@ def _put(tree: dict, target: str, value: Any) -> None:
     node[last] = list(value) if isinstance(value, tuple) else value
 
 
+def _core(outcome: Any) -> Any:
+    """The engine ``BudgetResult`` inside a domain-layer result (or the result itself)."""
+    for name in ("result", "budget_result", "gum"):
+        inner = getattr(outcome, name, None)
+        if inner is not None and hasattr(inner, "standard_uncertainty"):
+            return inner
+    return outcome
+
+
 def result_quantities(kind: str, result: Any) -> dict[str, float]:
     """The quantities an acceptance limit may name, read from a domain-layer result.
 
@@ -94,10 +104,13 @@ def result_quantities(kind: str, result: Any) -> dict[str, float]:
     kind.  Quantities the result does not carry are left out.
     """
     out: dict[str, float] = {}
-    warnings = getattr(result, "warnings", ())
+    # The domain layer's own (physics) warnings when it keeps them apart from the engine's.
+    warnings = getattr(result, "nmr_warnings", None)
+    if warnings is None:
+        warnings = getattr(result, "warnings", ())
     out["warning_count"] = float(len(warnings or ()))
     if kind == "nmr-field":
-        core = getattr(result, "result", None) or getattr(result, "budget_result", None) or result
+        core = _core(result)
         for name, attr in (("value", "estimate"), ("standard_uncertainty", "standard_uncertainty"),
                            ("expanded_uncertainty", "expanded_uncertainty"),
                            ("coverage_factor", "coverage_factor"), ("effective_dof", "effective_dof")):
@@ -187,8 +200,12 @@ class ProcedureRun:
     Notes
     -----
     Operator components start at their default ``value`` from the procedure
-    file when it has one.  Listeners registered with :meth:`subscribe` are
-    called after every change.
+    file when it has one.  After every change of a value the run evaluates the
+    measurement again (when nothing required is missing): :attr:`outcome` and
+    :attr:`result` hold the last good evaluation, :attr:`current` says whether
+    it reflects the latest values and :attr:`errors` says why not.  These are
+    the attributes the live budget view reads.  Listeners registered with
+    :meth:`subscribe` are called after every change.
     """
 
     def __init__(self, procedure: Procedure, *, training: bool = False,
@@ -203,6 +220,10 @@ class ProcedureRun:
                 self._entered[comp.id] = _parse(comp, comp.value, self._where)
         for cid, value in (entered or {}).items():
             self._store(cid, value)
+        self._outcome: Any = None
+        self._current = False
+        self._errors: dict[str, str] = {}
+        self._reevaluate()
 
     # ------------------------------------------------------------ listeners
     def subscribe(self, listener: Listener) -> Callable[[], None]:
@@ -210,9 +231,45 @@ class ProcedureRun:
         self._listeners.append(listener)
         return lambda: self._listeners.remove(listener) if listener in self._listeners else None
 
-    def _changed(self) -> None:
+    def _changed(self, values: bool = False) -> None:
+        if values:
+            self._reevaluate()
         for fn in tuple(self._listeners):
             fn(self)
+
+    def _reevaluate(self) -> None:
+        missing = self.missing()
+        if missing:
+            self._current = False
+            self._errors = {cid: f"{self.procedure.component(cid).label}: still to be entered" for cid in missing}
+            return
+        try:
+            outcome = self.evaluate()
+        except FieldbudgetError as err:
+            self._current = False
+            self._errors = {str(getattr(err, "field", "") or "measurement"): str(err)}
+            return
+        self._outcome, self._current, self._errors = outcome, True, {}
+
+    @property
+    def outcome(self) -> Any:
+        """The domain layer's result of the last good evaluation (None before the first)."""
+        return self._outcome
+
+    @property
+    def result(self) -> Any:
+        """The engine result (``BudgetResult``) of the last good evaluation, or None."""
+        return None if self._outcome is None else _core(self._outcome)
+
+    @property
+    def current(self) -> bool:
+        """True when :attr:`result` was evaluated from the values in force now."""
+        return self._current
+
+    @property
+    def errors(self) -> Mapping[str, str]:
+        """Why the latest values could not be evaluated, by field (empty when :attr:`current`)."""
+        return MappingProxyType(dict(self._errors))
 
     # ------------------------------------------------------------ steps
     @property
@@ -298,13 +355,13 @@ class ProcedureRun:
             suit it; ``field`` is the component id.  The previous value stays.
         """
         self._store(component_id, value)
-        self._changed()
+        self._changed(values=True)
         return self._entered[component_id]
 
     def clear(self, component_id: str) -> None:
         """Forget an operator value."""
         if self._entered.pop(component_id, None) is not None:
-            self._changed()
+            self._changed(values=True)
 
     def value(self, component_id: str) -> Any:
         """The value in force for a component: the lab's, or the operator's, or None."""
@@ -395,11 +452,16 @@ class ProcedureRun:
         return self.measurement().evaluate()
 
     # ------------------------------------------------------------ acceptance
-    def check(self, result: Any = None) -> AcceptanceReport:
-        """Judge every acceptance limit; limits on the result need ``result`` (from :meth:`evaluate`).
+    def check(self, result: Any = _LATEST) -> AcceptanceReport:
+        """Judge every acceptance limit.
 
-        Both bounds of a limit are inclusive: a value equal to the limit meets it.
+        Limits on the result use ``result`` (a domain-layer result, as from
+        :meth:`evaluate`); by default the latest evaluation when it is
+        :attr:`current`, else none, so those limits are "not yet known".  Both
+        bounds of a limit are inclusive: a value equal to the limit meets it.
         """
+        if result is _LATEST:
+            result = self._outcome if self._current else None
         found = result_quantities(self.procedure.kind, result) if result is not None else {}
         verdicts = []
         for lim in self.procedure.acceptance:

@@ -69,8 +69,8 @@ CASES = [
      "lab.toml, at components.timebase_u.value: must be a finite number for a component of kind "
      "'number' (got '5e-10')"),
     (lambda d: _set(d, ["components", "sample_shape", "value"], "cube"),
-     "lab.toml, at components.sample_shape.value: must be one of 'sphere', 'cylinder-parallel', "
-     "'cylinder-perpendicular' (got 'cube')"),
+     "lab.toml, at components.sample_shape.value: must be one of 'sphere', 'cylinder', "
+     "'long-cylinder' (got 'cube')"),
     (lambda d: _set(d, ["components", "days_since_calibration", "value"], 900),
      "lab.toml, at components.days_since_calibration.value: must lie in [0, 730] (got 900)"),
     (lambda d: _set(d, ["steps", 2, "components", 1], "line_snR"),
@@ -78,9 +78,10 @@ CASES = [
      "starting with a letter (got 'line_snR')"),
     (lambda d: _set(d, ["steps", 2, "components", 1], "line_noise"),
      "lab.toml, at steps[2].components[1]: must name a component of this file (codata_edition, "
-     "counter_resolution, days_since_calibration, frequency_readings, gradient, line_fwhm, line_snr, "
-     "magnet_current, nucleus, offset, operator, probe_perturbation, sample_shape, sample_temperature, "
-     "sample_temperature_u, timebase_ageing, timebase_offset, timebase_u) (got 'line_noise')"),
+     "counter_resolution, days_since_calibration, frequency_readings, gradient, gradient_u, line_fwhm, "
+     "line_points, line_snr, magnet_current, nucleus, offset, offset_u, operator, probe_perturbation, "
+     "probe_perturbation_u, probe_source, sample_shape, sample_temperature, sample_temperature_u, "
+     "timebase_ageing, timebase_certificate, timebase_offset, timebase_u) (got 'line_noise')"),
     (lambda d: _set(d, ["steps", 3, "components"], ["days_since_calibration", "line_fwhm"]),
      "lab.toml, at steps[3].components[1]: must not repeat a component already shown in steps[2] "
      "(got 'line_fwhm')"),

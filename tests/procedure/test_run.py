@@ -26,16 +26,21 @@ def test_measurement_dict_equals_hand_written(run):
     run.set("days_since_calibration", 140)
     # Written by hand from the template's lab values and the operator's entries above.
     expected = {
-        "nucleus": "1H",
+        "nucleus": "shielded-proton",
         "codata": 2022,
         "frequency": {"readings_Hz": READINGS, "counter_resolution_Hz": 0.01},
         "timebase": {"offset": 2.1e-9, "u": 5.0e-10, "ageing_per_day": 3.0e-11,
-                     "days_since_calibration": 140.0},
+                     "days_since_calibration": 140.0,
+                     "source": "OCXO s/n OX-55031 in counter FC-9 s/n FC9-30118, certificate "
+                               "LMCL-FS-2026-0712 of 2026-08-04 (invented)"},
         "sample": {"temperature_C": 23.1, "u_temperature_C": 0.3, "shape": "sphere"},
-        "line": {"fwhm_Hz": 8.0, "snr": 60.0},
+        "line": {"fwhm_Hz": 8.0, "snr": 60.0, "points_per_fwhm": 10.0},
         "gradient_T_per_m": 2.0e-4,
-        "offset_m": 2.0e-4,
-        "probe_perturbation": 1.0e-8,
+        "u_gradient_T_per_m": 5.0e-5,
+        "offset_m": 0.0,
+        "u_offset_m": 2.0e-4,
+        "probe_perturbation": {"value": 0.0, "u": 1.0e-8,
+                               "source": "Probe PX-3 s/n PX3-2291, characterisation LMCL-PC-2025-031 (invented)"},
     }
     assert run.measurement_dict() == expected
     assert json.loads(json.dumps(run.measurement_dict())) == expected
@@ -61,7 +66,8 @@ def test_steps_next_back_go(run):
     assert run.step_index == 0 and seen == []   # no change, no notice
     run.next(); run.next()
     assert run.step.id == "lock"
-    assert [c.id for c in run.step_components()] == ["line_fwhm", "line_snr", "frequency_readings"]
+    assert [c.id for c in run.step_components()] == ["line_fwhm", "line_snr", "frequency_readings",
+                                                        "line_points", "counter_resolution"]
     run.go("review")
     assert run.is_last
     run.next()
@@ -102,7 +108,6 @@ def test_unknown_component(run):
 
 def test_choice_from_text(nmr_data):
     nmr_data["codata"].update(operator_may_choose=True, allowed=[2018, 2022])
-    nmr_data["steps"][3]["components"].append("codata_edition")
     r = ProcedureRun(procedure_from_dict(nmr_data, "x.toml"))
     assert r.set("codata_edition", "2018") == 2018
     r.set("frequency_readings", READINGS)
@@ -184,3 +189,43 @@ def test_report_overall(run):
     assert "NOT met" in html and 'class="fb-proc-acceptance"' in html
     d = bad.to_dict()
     assert json.loads(json.dumps(d)) == d and d["accepted"] is False
+
+
+# ---------------------------------------------------------------- with the NMR layer
+
+
+def test_run_evaluates_like_the_hand_written_measurement(run):
+    from fieldbudget.nmr.measurement import NMRMeasurement
+
+    assert run.result is None and not run.current
+    assert run.errors == {"frequency_readings": "Locked resonance frequency, counter readings: still to be entered"}
+    run.set("frequency_readings", READINGS)
+    assert run.current and run.errors == {}
+    by_hand = NMRMeasurement.from_dict(run.measurement_dict()).evaluate()
+    assert run.result.estimate == by_hand.estimate
+    assert run.result.standard_uncertainty == by_hand.standard_uncertainty
+    assert run.budget().to_dict() == by_hand.budget.to_dict()
+    # The gradient times the positioning uncertainty is a component: doubling G changes u_c.
+    u0 = run.result.standard_uncertainty
+    run.set("gradient", 4e-4)
+    assert run.result.standard_uncertainty > u0
+
+
+def test_rejected_by_the_nmr_layer_keeps_last_good_result(run):
+    run.set("frequency_readings", READINGS)
+    good = run.result
+    run.set("line_fwhm", 0)   # allowed by the procedure's bound (>= 0), refused by the NMR layer (> 0)
+    assert not run.current
+    assert run.result is good
+    (field, message), = run.errors.items()
+    assert "fwhm_Hz" in message
+    report = run.check()
+    assert next(v for v in report.verdicts if v.limit.id == "u-rel").passed is None
+
+
+def test_acceptance_on_a_real_evaluation(run):
+    run.set("frequency_readings", READINGS)
+    report = run.check()
+    assert report.accepted is True, report.to_dict()
+    u_rel = next(v for v in report.verdicts if v.limit.id == "u-rel").value
+    assert u_rel == pytest.approx(run.result.expanded_uncertainty / run.result.estimate, rel=1e-12)
