@@ -1,0 +1,61 @@
+"""Time of one GUM evaluation: a 15-input nonlinear model and a 200-input model.
+
+A script, not a test: it prints medians and ratios and asserts nothing.
+Run: .venv/bin/python benchmarks/bench_gum.py
+"""
+
+from __future__ import annotations
+
+import statistics
+import time
+
+from fieldbudget.engine import Budget, InputQuantity, evaluate
+
+
+def nonlinear_15() -> Budget:
+    # an NMR-like product of corrections with a cosine, an exponential and a square root
+    expr = ("2*pi*f*(1 + y_tb)*(1 + d1)*(1 + d2)*(1 + d3)*(1 + d4)/(g*(1 + a*(t - t0))*(1 + chi*(1/3 - N))"
+            "*cos(theta)) + G*dx")
+    inputs = [
+        InputQuantity.from_readings("f", [42.576385e6 + i * 0.3 for i in range(10)], unit="Hz"),
+        InputQuantity.normal("y_tb", 1e-9, 5e-10), InputQuantity.rectangular("d1", 0, 1e-8),
+        InputQuantity.triangular("d2", 0, 2e-8), InputQuantity.arcsine("d3", 0, 1e-8),
+        InputQuantity.normal("d4", 0, 3e-9),
+        InputQuantity.normal("g", 2.675153194e8, 1.1), InputQuantity.normal("a", 10.36e-9, 0.3e-9),
+        InputQuantity.normal("t", 22.0, 0.1), InputQuantity.normal("t0", 25.0, 0.0),
+        InputQuantity.normal("chi", -9.05e-6, 0.05e-6), InputQuantity.normal("N", 0.3116, 0.002),
+        InputQuantity.normal("theta", 0.0, 0.01), InputQuantity.normal("G", 1e-4, 1e-5),
+        InputQuantity.normal("dx", 0.0, 1e-4),
+    ]
+    return Budget(model=expr, inputs=tuple(inputs))
+
+
+def linear_200() -> Budget:
+    expr = " + ".join(f"{1 + i % 7}*x{i}" for i in range(200))
+    return Budget(model=expr, inputs=tuple(InputQuantity.normal(f"x{i}", float(i), 0.1 + i * 1e-3) for i in range(200)))
+
+
+def timeit(fn, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times)
+
+
+def main() -> None:
+    b15, b200 = nonlinear_15(), linear_200()
+    evaluate(b15), evaluate(b200)  # warm up (imports, scipy)
+    t15 = timeit(lambda: evaluate(b15), 50)
+    t200 = timeit(lambda: evaluate(b200), 20)
+    build = timeit(nonlinear_15, 50)
+    print(f"inputs in the nonlinear model: {len(b15.inputs)}")
+    print(f"GUM evaluation, {len(b15.inputs)}-input nonlinear model: median {t15 * 1e3:.2f} ms")
+    print(f"GUM evaluation, 200-input linear model: median {t200 * 1e3:.2f} ms")
+    print(f"building the {len(b15.inputs)}-input budget (checks included): median {build * 1e3:.2f} ms")
+    print(f"ratio 200-input / {len(b15.inputs)}-input: {t200 / t15:.1f}")
+
+
+if __name__ == "__main__":
+    main()
