@@ -1,0 +1,769 @@
+"""Per-point calibration budgets of a field instrument against the NMR reference, and their correlation.
+
+At calibration point i the error of the instrument under calibration is
+
+    E_i = (R_i - z_off + dres_i + drev_i) / (1 + a_temp * dT_i) - (B_ref,i + G_i * dz_pos) * cos(theta_i)
+
+and, when asked for, the correction factor
+
+    K_i = (B_ref,i + G_i * dz_pos) * cos(theta_i) / ((R_i - z_off + dres_i + drev_i) / (1 + a_temp * dT_i))
+
+with (each term appears in the model only when it is given):
+
+* ``R_i``: mean indication, Type A from the readings (JCGM 100:2008 4.2);
+  with readings in the reversed field ``R_i = (mean(R+) - mean(R-)) / 2``, which
+  cancels the zero offset (``common practice`` for Hall probes), and ``drev_i``
+  is the reversal asymmetry of the field (0 +- u);
+* ``z_off``: zero offset read in a zero-field chamber, shared by all points
+  (used only without reversal);
+* ``dres_i``: resolution, rectangular with half-width half a digit
+  (JCGM 100:2008 F.2.2.1);
+* ``a_temp * dT_i``: temperature coefficient of the instrument (shared) times
+  the temperature difference from its reference temperature;
+* ``cos(theta_i)``: alignment of the probe to the field; the probe sees the
+  component ``B cos(theta)``.  At ``theta = 0`` the first-order sensitivity is
+  zero, so the law of propagation gives this term no uncertainty and no bias,
+  while ``E[cos theta] = exp(-u^2/2) ~ 1 - u^2/2`` for ``theta ~ N(0, u^2)``.
+  The budget therefore goes through Monte Carlo (JCGM 101:2008) and the
+  result says that first-order propagation underestimates the term
+  (JCGM 100:2008 5.1.2, note; JCGM 101:2008 5.11);
+* ``G_i * dz_pos``: field gradient at the point times the position difference
+  between the NMR sample and the Hall element (shared: same fixture);
+* ``B_ref,i``: the reference field at the NMR sample.  Given as the NMR
+  ``Budget`` of the point, its model and inputs are merged in, with the inputs
+  shared by all points (CODATA value, frequency standard, probe perturbation)
+  appearing once, so the points' covariance comes out of one several-output
+  evaluation (JCGM 100:2008 5.2, H.2).  Given as a ``BudgetResult``, its
+  value and uncertainty are carried in and the correlation between points is
+  rebuilt from the shared inputs' contributions,
+  ``u(B_i, B_j) = sum_k c_ik c_jk u^2(x_k)`` (JCGM 100:2008 eq. (F.2)).
+
+Why hand-written: the model of a Hall-probe comparison and the merging of the
+reference budgets are the metrology of this calibration; the propagation
+itself is the engine's.
+"""
+
+from __future__ import annotations
+
+import ast
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from fieldbudget import _display
+from fieldbudget.engine import (
+    Budget,
+    BudgetResult,
+    InputQuantity,
+    Measurand,
+    Model,
+    Normal,
+    Rectangular,
+    VectorResult,
+    evaluate,
+)
+from fieldbudget.errors import InputError
+
+from .curve import CalibrationRangeWarning, CurveFit, fit_polynomial
+
+__all__ = ["CalibrationPoint", "CalibrationSet", "CalibrationResult", "PointResult", "CalibrationCurve",
+           "FieldPrediction", "PROPAGATIONS"]
+
+PROPAGATIONS = ("auto", "gum", "monte carlo")
+_WHERE = "calibration"
+_SHARED_OWN = ("z_off", "a_temp", "dz_pos", "theta")
+
+
+def _num(name: str, v: object, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
+    if isinstance(v, bool) or not isinstance(v, (int, float, np.floating)) or not math.isfinite(v):
+        raise InputError(name, v, "a finite number", where)
+    v = float(v)
+    if positive and not v > 0:
+        raise InputError(name, v, "a finite number > 0", where)
+    if nonneg and v < 0:
+        raise InputError(name, v, "a finite number >= 0", where)
+    return v
+
+
+def _readings(name: str, values: Sequence[float], where: str) -> tuple[float, ...]:
+    try:
+        vals = tuple(float(v) for v in values)
+    except (TypeError, ValueError):
+        raise InputError(name, values, "a list of numbers (T)", where) from None
+    if not all(math.isfinite(v) for v in vals):
+        raise InputError(name, list(vals), "finite numbers (T)", where)
+    return vals
+
+
+class _Rename(ast.NodeTransformer):
+    def __init__(self, mapping: dict[str, str]) -> None:
+        self.mapping = mapping
+
+    def visit_Call(self, node: ast.Call) -> ast.AST:
+        node.args = [self.visit(a) for a in node.args]  # the function name itself is not a symbol
+        return node
+
+    def visit_Name(self, node: ast.Name) -> ast.AST:
+        return ast.copy_location(ast.Name(id=self.mapping.get(node.id, node.id), ctx=node.ctx), node)
+
+
+def _rename_expression(text: str, mapping: dict[str, str]) -> str:
+    tree = ast.parse(text, mode="eval")
+    return ast.unparse(_Rename(mapping).visit(tree))
+
+
+# ------------------------------------------------------------------------------------ definitions
+@dataclass(frozen=True)
+class CalibrationPoint:
+    """One calibration point: the reference field and the instrument's readings there.
+
+    Parameters
+    ----------
+    reference : Budget, BudgetResult or NMR result
+        The reference field at the NMR sample (T): the NMR budget of this
+        point (preferred: shared inputs are then correlated exactly), or its
+        evaluated result (value and uncertainty carried in).  An NMR result
+        object is accepted through its ``budget`` (or ``result``) attribute.
+    readings_t : sequence of float
+        Indications of the instrument, T.  One reading needs ``pooled_sd_t``.
+    reversed_readings_t : sequence of float, optional
+        Indications with the field reversed (negative numbers), T.
+    u_reversal_t : float
+        Standard uncertainty of the asymmetry of the field on reversal, T.
+    temperature_difference_k, u_temperature_difference_k : float
+        Probe temperature minus the instrument's reference temperature, K.
+    gradient_t_per_m, u_gradient_t_per_m : float
+        Field gradient along the line from the NMR sample to the Hall element, T/m.
+    resolution_t : float, optional
+        Digit step at this point, T (default: the set's).
+    pooled_sd_t, pooled_dof : float, optional
+        Standard deviation of one reading from earlier work (T) and its degrees
+        of freedom, used instead of the scatter of the readings (JCGM 100:2008 4.2.4).
+    name : str
+        A label for the point (default ``P1``, ``P2``, ...).
+    """
+
+    reference: object
+    readings_t: tuple[float, ...]
+    reversed_readings_t: tuple[float, ...] = ()
+    u_reversal_t: float = 0.0
+    temperature_difference_k: float = 0.0
+    u_temperature_difference_k: float = 0.0
+    gradient_t_per_m: float = 0.0
+    u_gradient_t_per_m: float = 0.0
+    resolution_t: float | None = None
+    pooled_sd_t: float | None = None
+    pooled_dof: float | None = None
+    name: str = ""
+
+    def __post_init__(self) -> None:
+        where = f"calibration point {self.name!r}" if self.name else "calibration point"
+        object.__setattr__(self, "readings_t", _readings("readings_t", self.readings_t, where))
+        object.__setattr__(self, "reversed_readings_t",
+                           _readings("reversed_readings_t", self.reversed_readings_t, where))
+        for name in ("u_reversal_t", "u_temperature_difference_k", "u_gradient_t_per_m"):
+            object.__setattr__(self, name, _num(name, getattr(self, name), where, nonneg=True))
+        for name in ("temperature_difference_k", "gradient_t_per_m"):
+            object.__setattr__(self, name, _num(name, getattr(self, name), where))
+        if self.resolution_t is not None:
+            object.__setattr__(self, "resolution_t", _num("resolution_t", self.resolution_t, where, positive=True))
+        if self.pooled_sd_t is not None:
+            object.__setattr__(self, "pooled_sd_t", _num("pooled_sd_t", self.pooled_sd_t, where, positive=True))
+        if not self.readings_t:
+            raise InputError("readings_t", [], "at least one reading (T)", where)
+        for name in ("readings_t", "reversed_readings_t"):
+            vals = getattr(self, name)
+            if len(vals) == 1 and self.pooled_sd_t is None:
+                raise InputError(name, list(vals), "at least 2 readings, or one with pooled_sd_t given", where)
+        if self.reversed_readings_t and np.mean(self.reversed_readings_t) * np.mean(self.readings_t) > 0:
+            raise InputError("reversed_readings_t", list(self.reversed_readings_t),
+                             "readings of the reversed field (opposite sign to readings_t)", where)
+        if self.u_reversal_t and not self.reversed_readings_t:
+            raise InputError("u_reversal_t", self.u_reversal_t, "0 unless reversed_readings_t are given", where)
+
+    @property
+    def indication(self) -> float:
+        """The indication the curve is fitted against, T: mean reading, or half the reversal difference."""
+        if self.reversed_readings_t:
+            return 0.5 * (float(np.mean(self.readings_t)) - float(np.mean(self.reversed_readings_t)))
+        return float(np.mean(self.readings_t))
+
+
+def _reference_parts(ref: object, where: str) -> tuple[Budget | None, BudgetResult | None]:
+    """(budget, result) behind a reference given as Budget, BudgetResult or an NMR result."""
+    if isinstance(ref, Budget):
+        return ref, None
+    if isinstance(ref, BudgetResult):
+        return None, ref
+    for attr in ("result", "budget_result", "gum"):
+        r = getattr(ref, attr, None)
+        if isinstance(r, BudgetResult):
+            return None, r
+    b = getattr(ref, "budget", None)
+    if isinstance(b, Budget):
+        return b, None
+    raise InputError("reference", type(ref).__name__, "a Budget, a BudgetResult or an NMR result of the reference "
+                     "field", where)
+
+
+@dataclass(frozen=True)
+class CalibrationSet:
+    """The calibration points of one instrument and the inputs they share.
+
+    Parameters
+    ----------
+    points : sequence of CalibrationPoint
+    resolution_t : float
+        Digit step of the instrument's display, T (rectangular, half a digit).
+    instrument : str
+        What is calibrated (type, serial number), for the results.
+    zero_offset_t, u_zero_offset_t : float
+        Zero offset read in a zero-field chamber and its standard uncertainty,
+        T; shared by all points; not used at points with reversed readings.
+    temperature_coefficient_per_k, u_temperature_coefficient_per_k : float
+        Relative temperature coefficient of the indication, 1/K (shared).
+    tilt_u_rad : float
+        Standard uncertainty of the probe's alignment angle, rad (theta = 0 +- u, normal).
+    tilt_per_point : bool
+        True when the probe is re-seated at each point (independent angles);
+        False for one mounting for all points (one shared angle).
+    position_offset_m, u_position_offset_m : float
+        Hall element position minus NMR sample position along the gradient, m (shared).
+    shared : sequence of str
+        Symbols of the reference budgets shared by all points, in addition to
+        the inputs that name a CODATA value (``InputQuantity.reference``),
+        e.g. the frequency standard and the probe perturbation.
+    correction_factor : bool
+        Also give K_i = B_reference / B_indicated at each point.
+    """
+
+    points: tuple[CalibrationPoint, ...]
+    resolution_t: float
+    instrument: str = ""
+    zero_offset_t: float = 0.0
+    u_zero_offset_t: float = 0.0
+    temperature_coefficient_per_k: float = 0.0
+    u_temperature_coefficient_per_k: float = 0.0
+    tilt_u_rad: float = 0.0
+    tilt_per_point: bool = True
+    position_offset_m: float = 0.0
+    u_position_offset_m: float = 0.0
+    shared: tuple[str, ...] = ()
+    correction_factor: bool = False
+    _budget: Budget = field(default=None, init=False, repr=False, compare=False)  # type: ignore[assignment]
+    _notes: tuple[str, ...] = field(default=(), init=False, repr=False, compare=False)
+    _ref_values: tuple[float, ...] = field(default=(), init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        where = _WHERE
+        pts = tuple(self.points)
+        if not pts:
+            raise InputError("points", 0, "at least one calibration point", where)
+        for p in pts:
+            if not isinstance(p, CalibrationPoint):
+                raise InputError("points", type(p).__name__, "CalibrationPoint objects", where)
+        names = [p.name or f"P{i + 1}" for i, p in enumerate(pts)]
+        if len(set(names)) != len(names):
+            dup = next(n for n in names if names.count(n) > 1)
+            raise InputError("points", dup, "points with distinct names", where)
+        object.__setattr__(self, "points", tuple(
+            p if p.name else _replace_name(p, n) for p, n in zip(pts, names)))
+        object.__setattr__(self, "resolution_t", _num("resolution_t", self.resolution_t, where, positive=True))
+        for n in ("zero_offset_t", "temperature_coefficient_per_k", "position_offset_m"):
+            object.__setattr__(self, n, _num(n, getattr(self, n), where))
+        for n in ("u_zero_offset_t", "u_temperature_coefficient_per_k", "tilt_u_rad", "u_position_offset_m"):
+            object.__setattr__(self, n, _num(n, getattr(self, n), where, nonneg=True))
+        if self.tilt_u_rad > 0.5:
+            raise InputError("tilt_u_rad", self.tilt_u_rad, "a small angle in radians (<= 0.5 rad)", where)
+        object.__setattr__(self, "shared", tuple(self.shared))
+        budget, notes = self._build()
+        object.__setattr__(self, "_budget", budget)
+        object.__setattr__(self, "_notes", tuple(notes))
+
+    # -- the multi-output budget ------------------------------------------------------------
+    @property
+    def budget(self) -> Budget:
+        """One engine budget with an output E_i (and K_i) per point and the shared inputs appearing once."""
+        return self._budget
+
+    @property
+    def indications(self) -> tuple[float, ...]:
+        return tuple(p.indication for p in self.points)
+
+    def _build(self) -> tuple[Budget, list[str]]:
+        where = _WHERE
+        inputs: dict[str, InputQuantity] = {}
+        correlations: list[tuple[str, str, float]] = []
+        simultaneous: list[tuple[str, ...]] = []
+        outputs: dict[str, str] = {}
+        measurands: list[Measurand] = []
+        notes: list[str] = []
+        shared_seen: dict[str, InputQuantity] = {}
+        carried: list[tuple[int, str, BudgetResult]] = []
+        ref_values: list[float] = []
+
+        def add(q: InputQuantity) -> None:
+            if q.symbol in inputs:
+                raise InputError("symbol", q.symbol, "used once in the merged calibration budget (rename the "
+                                 "reference budget's input)", where)
+            inputs[q.symbol] = q
+
+        if self.u_zero_offset_t or self.zero_offset_t:
+            if any(not p.reversed_readings_t for p in self.points):
+                add(InputQuantity("z_off", self.zero_offset_t, Normal(u=self.u_zero_offset_t), unit="T",
+                                  source="zero-field chamber reading", description="zero offset of the instrument"))
+        if self.u_temperature_coefficient_per_k or self.temperature_coefficient_per_k:
+            add(InputQuantity("a_temp", self.temperature_coefficient_per_k,
+                              Normal(u=self.u_temperature_coefficient_per_k), unit="1/K",
+                              source="instrument specification", description="temperature coefficient of the "
+                                                                              "indication"))
+        if self.u_position_offset_m or self.position_offset_m:
+            add(InputQuantity("dz_pos", self.position_offset_m, Normal(u=self.u_position_offset_m), unit="m",
+                              source="fixture drawing", description="Hall element minus NMR sample position"))
+        if self.tilt_u_rad and not self.tilt_per_point:
+            add(InputQuantity("theta", 0.0, Normal(u=self.tilt_u_rad), unit="rad",
+                              description="probe alignment angle (one mounting)"))
+
+        for i, p in enumerate(self.points, start=1):
+            pw = f"calibration point {p.name!r}"
+            rb, rr = _reference_parts(p.reference, pw)
+            if rb is not None and not rb.model.is_expression:
+                rr = evaluate(rb)
+                rb = None
+                notes.append(f"point {p.name}: the reference budget's model is a Python function, so its result "
+                             "is carried in instead of its inputs")
+            if rb is not None:
+                if len(rb.model.outputs) != 1:
+                    raise InputError("reference", rb.model.outputs, "a budget with one output (the field)", pw)
+                unit = rb.measurands[0].unit
+                if unit not in ("", "T"):
+                    raise InputError("reference unit", unit, "'T' (give the NMR field in tesla)", pw)
+                share = set(self.shared) | {q.symbol for q in rb.inputs if q.reference}
+                mapping: dict[str, str] = {}
+                for q in rb.inputs:
+                    if q.symbol in share:
+                        if q.symbol in _SHARED_OWN:
+                            raise InputError("shared", q.symbol, f"a name other than {_SHARED_OWN}", pw)
+                        prev = shared_seen.get(q.symbol)
+                        if prev is None:
+                            shared_seen[q.symbol] = q
+                            add(q)
+                        elif (prev.estimate != q.estimate or prev.distribution != q.distribution):
+                            raise InputError(f"shared input {q.symbol!r}", repr(q),
+                                             f"the same at every point (point 1 has {prev!r})", pw)
+                        mapping[q.symbol] = q.symbol
+                    else:
+                        new = f"{q.symbol}_r{i}"
+                        mapping[q.symbol] = new
+                        add(q.replace(symbol=new, where=""))
+                for a, b, r in rb.correlations:
+                    pair = (mapping[a], mapping[b], r)
+                    if pair not in correlations:
+                        correlations.append(pair)
+                for g in rb.simultaneous:
+                    gg = tuple(mapping[s] for s in g)
+                    if gg not in simultaneous:
+                        simultaneous.append(gg)
+                bref = "(" + _rename_expression(rb.model.expressions[0].text, mapping) + ")"
+                ref_values.append(rb.model.evaluate_float({q.symbol: q.estimate for q in rb.inputs})[0])
+            else:
+                assert rr is not None
+                unit = rr.measurand.unit
+                if unit not in ("", "T"):
+                    raise InputError("reference unit", unit, "'T' (give the NMR field in tesla)", pw)
+                add(InputQuantity(f"Bref_{i}", rr.estimate, Normal(u=rr.standard_uncertainty, dof=rr.effective_dof),
+                                  unit="T", source=f"NMR reference result: {rr.measurand.symbol} = "
+                                                   f"{rr.estimate:.10g} T, u = {rr.standard_uncertainty:.3g} T",
+                                  description=f"reference field at point {p.name}"))
+                carried.append((i, f"Bref_{i}", rr))
+                bref = f"Bref_{i}"
+                ref_values.append(rr.estimate)
+
+            # the instrument's side
+            res = p.resolution_t or self.resolution_t
+            if p.reversed_readings_t:
+                add(_reading_input(f"Rp_{i}", p.readings_t, p, "readings, field in normal direction"))
+                add(_reading_input(f"Rn_{i}", p.reversed_readings_t, p, "readings, field reversed"))
+                ind = f"(Rp_{i} - Rn_{i}) / 2"
+            else:
+                add(_reading_input(f"R_{i}", p.readings_t, p, "readings"))
+                ind = f"R_{i}"
+                if "z_off" in inputs:
+                    ind += " - z_off"
+            add(InputQuantity(f"dres_{i}", 0.0, Rectangular(half_width=res / 2), unit="T",
+                              source=f"display resolution {res:g} T, half a digit",
+                              description="resolution of the indication"))
+            ind += f" + dres_{i}"
+            if p.u_reversal_t:
+                add(InputQuantity(f"drev_{i}", 0.0, Normal(u=p.u_reversal_t), unit="T",
+                                  description="asymmetry of the field on reversal"))
+                ind += f" + drev_{i}"
+            if "a_temp" in inputs and (p.temperature_difference_k or p.u_temperature_difference_k):
+                add(InputQuantity(f"dT_{i}", p.temperature_difference_k, Normal(u=p.u_temperature_difference_k),
+                                  unit="K", description="probe temperature minus reference temperature"))
+                ind = f"({ind}) / (1 + a_temp * dT_{i})"
+            elif p.temperature_difference_k or p.u_temperature_difference_k:
+                notes.append(f"point {p.name}: a temperature difference is given but no temperature "
+                             "coefficient, so it has no effect")
+            seen_field = bref
+            if "dz_pos" in inputs and (p.gradient_t_per_m or p.u_gradient_t_per_m):
+                add(InputQuantity(f"G_{i}", p.gradient_t_per_m, Normal(u=p.u_gradient_t_per_m), unit="T/m",
+                                  description="field gradient between NMR sample and Hall element"))
+                seen_field = f"({bref} + G_{i} * dz_pos)"
+            if self.tilt_u_rad:
+                th = "theta"
+                if self.tilt_per_point:
+                    th = f"theta_{i}"
+                    add(InputQuantity(th, 0.0, Normal(u=self.tilt_u_rad), unit="rad",
+                                      description="probe alignment angle"))
+                seen_field = f"{seen_field} * cos({th})"
+            outputs[f"E_{i}"] = f"({ind}) - {seen_field}"
+            measurands.append(Measurand(f"E_{i}", "T", f"error of the indication at point {p.name}"))
+            if self.correction_factor:
+                outputs[f"K_{i}"] = f"{seen_field} / ({ind})"
+                measurands.append(Measurand(f"K_{i}", "", f"correction factor B_ref/B_ind at point {p.name}"))
+
+        # duplicate reference points (exact equality of the reference field estimates)
+        for a in range(len(ref_values)):
+            for b in range(a + 1, len(ref_values)):
+                if ref_values[a] == ref_values[b]:
+                    raise InputError("points", (self.points[a].name, self.points[b].name),
+                                     f"distinct reference fields (both are {ref_values[a]:.10g} T)", where)
+        correlations += _carried_correlations(carried, self.shared)
+        budget = Budget(model=Model.from_expressions(outputs), inputs=tuple(inputs.values()),
+                        measurands=tuple(measurands), correlations=tuple(correlations),
+                        simultaneous=tuple(simultaneous), title=f"calibration of {self.instrument}".strip(),
+                        metadata={"instrument": self.instrument, "points": [p.name for p in self.points]})
+        object.__setattr__(self, "_ref_values", tuple(ref_values))
+        return budget, notes
+
+    @property
+    def reference_values(self) -> tuple[float, ...]:
+        """Estimates of the reference field at the points, T."""
+        return self._ref_values
+
+    def point_budget(self, index: int) -> Budget:
+        """The budget of one point alone (0-based ``index``): outputs E_i (and K_i) with only its inputs."""
+        if not 0 <= index < len(self.points):
+            raise InputError("index", index, f"0 to {len(self.points) - 1}", _WHERE)
+        i = index + 1
+        keep = [o for o in self._budget.model.outputs if o in (f"E_{i}", f"K_{i}")]
+        exprs = {o: e.text for o, e in zip(self._budget.model.outputs, self._budget.model.expressions)
+                 if o in keep}
+        model = Model.from_expressions(exprs)
+        syms = set(model.symbols)
+        inputs = tuple(q for q in self._budget.inputs if q.symbol in syms)
+        corr = tuple(c for c in self._budget.correlations if c[0] in syms and c[1] in syms)
+        sim = tuple(g for g in self._budget.simultaneous if all(s in syms for s in g))
+        ms = tuple(m for m in self._budget.measurands if m.symbol in keep)
+        if len(ms) == 1:
+            return Budget(model=model, inputs=inputs, measurand=ms[0], correlations=corr, simultaneous=sim)
+        return Budget(model=model, inputs=inputs, measurands=ms, correlations=corr, simultaneous=sim)
+
+    def evaluate(self, propagation: str = "auto", *, trials: int = 200_000, seed: int | None = None) -> \
+            CalibrationResult:
+        """Evaluate every point and their covariance.
+
+        ``propagation``: ``"gum"`` (first-order law of propagation),
+        ``"monte carlo"`` (JCGM 101; estimates are the means, the covariance
+        the sample covariance), or ``"auto"``: Monte Carlo when some input has
+        zero first-order sensitivity at its estimate but an uncertainty (the
+        probe tilt at theta = 0, a product of two zero estimates), else GUM.
+        """
+        if propagation not in PROPAGATIONS:
+            raise InputError("propagation", propagation, f"one of {', '.join(map(repr, PROPAGATIONS))}", _WHERE)
+        gum = evaluate(self._budget)
+        gum_results = gum.results if isinstance(gum, VectorResult) else (gum,)
+        # each point's own table: the several-output result lists every input under every output
+        point_gum = [evaluate(self.point_budget(n)) for n in range(len(self.points))]
+        own = [set(e.symbols) for e in self._budget.model.expressions]
+        nonlinear = sorted({c.symbol for r, syms in zip(gum_results, own) for c in r.contributions
+                            if c.symbol in syms and c.sensitivity == 0 and c.standard_uncertainty > 0})
+        use_mc = propagation == "monte carlo" or (propagation == "auto" and bool(nonlinear))
+        notes = list(self._notes)
+        mc = None
+        outs = self._budget.model.outputs
+        cov_gum = gum.covariance if isinstance(gum, VectorResult) else np.array([[gum.standard_uncertainty**2]])
+        if use_mc:
+            from fieldbudget.engine import montecarlo
+
+            mc = montecarlo.run(self._budget, trials, seed)
+            mcs = mc.results if hasattr(mc, "results") else (mc,)
+            est = np.array([m.estimate for m in mcs])
+            s = np.array([m.standard_uncertainty for m in mcs])
+            r = np.array(mc.correlation) if hasattr(mc, "results") else np.ones((1, 1))
+            cov = r * np.outer(s, s)
+            method = f"Monte Carlo (JCGM 101:2008), M = {mcs[0].trials}, seed {mcs[0].seed}"
+        else:
+            mcs = ()
+            est = np.array([g.estimate for g in gum_results])
+            cov = cov_gum
+            method = "GUM law of propagation, first order (JCGM 100:2008 5.1, 5.2)"
+        if nonlinear:
+            txt = (f"inputs {', '.join(nonlinear)} have zero first-order sensitivity at their estimates: the "
+                   "first-order law of propagation underestimates their effect (no bias and no uncertainty from "
+                   "them)")
+            notes.append(txt + ("; the results are from Monte Carlo" if use_mc else
+                                "; use propagation='monte carlo' or 'auto'"))
+        if self.tilt_u_rad:
+            u = self.tilt_u_rad
+            notes.append(f"probe tilt theta = 0 +- {u:g} rad: the mean of cos(theta) is exp(-u^2/2) = "
+                         f"{math.exp(-u * u / 2):.10g}, below 1 by about u^2/2 = {u * u / 2:.3g}, which first-order "
+                         "propagation misses; its distribution is one-sided")
+        e_idx = [j for j, o in enumerate(outs) if o.startswith("E_")]
+        k_idx = [j for j, o in enumerate(outs) if o.startswith("K_")]
+        pres = []
+        for n, (p, j) in enumerate(zip(self.points, e_idx)):
+            kj = k_idx[n] if k_idx else None
+            pg = point_gum[n]
+            pg_e = pg.results[0] if isinstance(pg, VectorResult) else pg
+            pres.append(PointResult(
+                name=p.name, indication=p.indication, reference=self.reference_values[n],
+                error=float(est[j]), u_error=float(math.sqrt(cov[j, j])), gum=pg_e,
+                monte_carlo=mcs[j] if mcs else None,
+                correction_factor=None if kj is None else float(est[kj]),
+                u_correction_factor=None if kj is None else float(math.sqrt(cov[kj, kj])),
+                gum_correction_factor=pg.results[1] if isinstance(pg, VectorResult) else None,
+                warnings=pg_e.warnings,
+            ))
+        e_cov = cov[np.ix_(e_idx, e_idx)]
+        return CalibrationResult(instrument=self.instrument, points=tuple(pres), propagation=method,
+                                 covariance_=tuple(map(tuple, e_cov.tolist())), budget=self._budget, gum=gum,
+                                 monte_carlo=mc, resolution_t=self.resolution_t, warnings=tuple(notes))
+
+
+def _replace_name(p: CalibrationPoint, name: str) -> CalibrationPoint:
+    from dataclasses import replace
+
+    return replace(p, name=name)
+
+
+def _reading_input(symbol: str, readings: tuple[float, ...], p: CalibrationPoint, what: str) -> InputQuantity:
+    if p.pooled_sd_t is not None:
+        n = len(readings)
+        dof = math.inf if p.pooled_dof is None else p.pooled_dof
+        return InputQuantity(symbol, float(np.mean(readings)), Normal(u=p.pooled_sd_t / math.sqrt(n), dof=dof),
+                             unit="T", source=f"mean of {n} {what}, pooled s = {p.pooled_sd_t:g} T",
+                             description=f"indication ({what})")
+    return InputQuantity.from_readings(symbol, readings, unit="T", source=f"mean of {len(readings)} {what}",
+                                       description=f"indication ({what})")
+
+
+def _carried_correlations(carried: list[tuple[int, str, BudgetResult]], shared: Sequence[str]) -> \
+        list[tuple[str, str, float]]:
+    """Correlations between carried-in reference results from their shared inputs (JCGM 100:2008 F.1.2.3)."""
+    out = []
+    for a in range(len(carried)):
+        for b in range(a + 1, len(carried)):
+            _, sa, ra = carried[a]
+            _, sb, rb = carried[b]
+            share = set(shared)
+            for r in (ra, rb):
+                share |= {q.symbol for q in r.budget.inputs if q.reference}
+            cov = 0.0
+            for ca in ra.contributions:
+                if ca.symbol not in share:
+                    continue
+                try:
+                    cb = rb.contribution(ca.symbol)
+                except KeyError:
+                    continue
+                if ca.estimate != cb.estimate or ca.standard_uncertainty != cb.standard_uncertainty:
+                    raise InputError(f"shared input {ca.symbol!r}", cb.estimate,
+                                     f"the same at every point ({ca.estimate!r} +- {ca.standard_uncertainty!r})",
+                                     _WHERE)
+                cov += ca.sensitivity * cb.sensitivity * ca.standard_uncertainty ** 2
+            den = ra.standard_uncertainty * rb.standard_uncertainty
+            if cov and den > 0:
+                out.append((sa, sb, max(-1.0, min(1.0, cov / den))))
+    return out
+
+
+# ------------------------------------------------------------------------------------ results
+@dataclass(frozen=True)
+class PointResult:
+    """The error (and correction factor) of the instrument at one point, T."""
+
+    name: str
+    indication: float
+    reference: float
+    error: float
+    u_error: float
+    gum: BudgetResult = field(repr=False)
+    monte_carlo: object | None = field(default=None, repr=False)
+    correction_factor: float | None = None
+    u_correction_factor: float | None = None
+    gum_correction_factor: BudgetResult | None = field(default=None, repr=False)
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def expanded_uncertainty(self) -> float:
+        """k u(E) with the GUM coverage factor of the point (or the Monte Carlo interval's half-width)."""
+        if self.monte_carlo is not None:
+            lo, hi = self.monte_carlo.interval  # type: ignore[attr-defined]
+            return 0.5 * (hi - lo)
+        return self.gum.coverage_factor * self.u_error
+
+    def __repr__(self) -> str:
+        return (f"<PointResult {self.name}: indication {self.indication:.8g} T, reference {self.reference:.8g} T, "
+                f"E = {self.error:.4g} T, u = {self.u_error:.2g} T>")
+
+    def to_dict(self) -> dict:
+        return {
+            "name": self.name, "indication": self.indication, "reference": self.reference,
+            "error": self.error, "u": self.u_error, "U": self.expanded_uncertainty,
+            "correction_factor": self.correction_factor, "u_correction_factor": self.u_correction_factor,
+            "gum": self.gum.to_dict(),
+            "mc": None if self.monte_carlo is None else self.monte_carlo.to_dict(),  # type: ignore[attr-defined]
+            "warnings": list(self.warnings),
+        }
+
+    def _repr_html_(self) -> str:
+        return _display.html_block(f"Calibration point {self.name}", self.gum._repr_html_())
+
+
+@dataclass(frozen=True)
+class CalibrationResult:
+    """The evaluated calibration points with the covariance of their errors (T^2)."""
+
+    instrument: str
+    points: tuple[PointResult, ...]
+    propagation: str
+    covariance_: tuple[tuple[float, ...], ...]
+    budget: Budget = field(repr=False)
+    gum: object = field(repr=False)
+    monte_carlo: object | None = field(default=None, repr=False)
+    resolution_t: float = 0.0
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def covariance(self) -> np.ndarray:
+        return np.array(self.covariance_)
+
+    @property
+    def correlation(self) -> np.ndarray:
+        c = self.covariance
+        s = np.sqrt(np.diag(c))
+        with np.errstate(invalid="ignore", divide="ignore"):
+            r = c / np.outer(s, s)
+        r[~np.isfinite(r)] = 0.0
+        np.fill_diagonal(r, 1.0)
+        return r
+
+    @property
+    def indications(self) -> tuple[float, ...]:
+        return tuple(p.indication for p in self.points)
+
+    @property
+    def errors(self) -> tuple[float, ...]:
+        return tuple(p.error for p in self.points)
+
+    def fit(self, degree: int = 1, *, x0: float | str = 0.0, correlated: bool = True,
+            scale: str = "never") -> CalibrationCurve:
+        """Fit the error E against the indication by generalised least squares with the points' covariance.
+
+        ``correlated=False`` keeps only the variances (weighted least squares), to show what the
+        correlation between points changes.
+        """
+        cov = self.covariance
+        kw = {"covariance": cov} if correlated else {"u_y": np.sqrt(np.diag(cov))}
+        fit = fit_polynomial(self.indications, self.errors, degree, x0=x0, scale=scale, x_unit="T", y_unit="T",
+                             **kw)
+        return CalibrationCurve(fit=fit, instrument=self.instrument, resolution_t=self.resolution_t,
+                                warnings=self.warnings + fit.warnings)
+
+    def __repr__(self) -> str:
+        return f"<CalibrationResult {self.instrument or 'instrument'}: {len(self.points)} points, {self.propagation}>"
+
+    def to_dict(self) -> dict:
+        return {
+            "instrument": self.instrument,
+            "propagation": self.propagation,
+            "model": self.budget.model.text(),
+            "points": [p.to_dict() for p in self.points],
+            "covariance": [list(r) for r in self.covariance_],
+            "correlation": self.correlation.tolist(),
+            "warnings": list(self.warnings),
+        }
+
+    def _repr_html_(self) -> str:
+        rows = [(p.name, _display.fmt(p.indication, 8), _display.fmt(p.reference, 10), _display.fmt(p.error, 4),
+                 _display.fmt(p.u_error, 2), _display.fmt(p.expanded_uncertainty, 2)) for p in self.points]
+        body = _display.html_table(("point", "indication (T)", "reference (T)", "error E (T)", "u(E) (T)",
+                                    "U(E) (T)"), rows, caption=self.propagation)
+        r = self.correlation
+        body += _display.html_table(("", *[p.name for p in self.points]),
+                                    [(p.name, *[f"{v:.3f}" for v in row]) for p, row in zip(self.points, r)],
+                                    caption="correlation of the errors between points")
+        body += "".join(f"<p>{_display.escape(w)}</p>" for w in self.warnings)
+        return _display.html_block(f"Calibration of {self.instrument}".strip(), body)
+
+
+@dataclass(frozen=True)
+class FieldPrediction:
+    """Corrected field for a later reading: ``B = R - E(R)``, T."""
+
+    reading: float
+    corrected: float
+    standard_uncertainty: float
+    u_curve: float
+    u_reading: float
+    inside_range: bool
+    warnings: tuple[str, ...] = ()
+
+    def __repr__(self) -> str:
+        flag = "" if self.inside_range else ", outside calibrated range"
+        return (f"<FieldPrediction reading {self.reading:.8g} T -> B = {self.corrected:.8g} T, "
+                f"u = {self.standard_uncertainty:.2g} T{flag}>")
+
+    def to_dict(self) -> dict:
+        return {"reading": self.reading, "corrected": self.corrected, "u": self.standard_uncertainty,
+                "u_curve": self.u_curve, "u_reading": self.u_reading, "inside_range": self.inside_range,
+                "warnings": list(self.warnings)}
+
+    def _repr_html_(self) -> str:
+        rows = [("reading", f"{self.reading:.8g} T"), ("corrected field", f"{self.corrected:.8g} T"),
+                ("standard uncertainty", f"{self.standard_uncertainty:.2g} T"),
+                ("from the curve", f"{self.u_curve:.2g} T"), ("from the reading", f"{self.u_reading:.2g} T"),
+                ("inside calibrated range", "yes" if self.inside_range else "no")]
+        rows += [("warning", w) for w in self.warnings]
+        return _display.html_block("Corrected field", _display.html_table(("item", "value"), rows))
+
+
+@dataclass(frozen=True)
+class CalibrationCurve:
+    """Error of the indication as a polynomial in the indication, fitted over the points."""
+
+    fit: CurveFit
+    instrument: str = ""
+    resolution_t: float = 0.0
+    warnings: tuple[str, ...] = ()
+
+    def predict(self, reading_t: float, *, u_reading_t: float | None = None) -> FieldPrediction:
+        """Corrected field for a later reading ``reading_t`` (T).
+
+        ``u_reading_t``: standard uncertainty of the new reading itself (T);
+        default the resolution alone, ``resolution / (2 sqrt 3)``.  Outside the
+        calibrated range a :class:`CalibrationRangeWarning` is raised and the
+        result says so.
+        """
+        u_r = self.resolution_t / (2 * math.sqrt(3)) if u_reading_t is None else u_reading_t
+        p = self.fit.predict(reading_t, u_extra=u_r, stacklevel=3)
+        return FieldPrediction(reading=float(reading_t), corrected=float(reading_t) - p.value,
+                               standard_uncertainty=p.standard_uncertainty, u_curve=p.uncertainty_from_curve,
+                               u_reading=float(u_r), inside_range=p.inside_range, warnings=p.warnings)
+
+    def __repr__(self) -> str:
+        return f"<CalibrationCurve {self.instrument or 'instrument'}: {self.fit!r}>"
+
+    def to_dict(self) -> dict:
+        return {"instrument": self.instrument, "fit": self.fit.to_dict(), "resolution_t": self.resolution_t,
+                "warnings": list(self.warnings)}
+
+    def _repr_html_(self) -> str:
+        return self.fit._repr_html_() + "".join(f"<p>{_display.escape(w)}</p>" for w in self.warnings)
+
+
+__all__ += ["CalibrationRangeWarning"]
