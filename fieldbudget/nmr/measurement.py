@@ -778,6 +778,8 @@ def _position_inputs(top: _Reader) -> list[tuple[InputQuantity, InputQuantity]]:
     axes = ("z",) if n == 1 else _AXES[:n]
     out = []
     for i, ax in enumerate(axes):
+        if g[i] == 0 and ug[i] == 0:
+            continue  # no gradient along this axis: the offset cannot matter, and the engine would flag it
         out.append((
             InputQuantity(f"G_{ax}", g[i], Normal(u=ug[i]), unit="T/m", source="stated field gradient",
                           description=f"field gradient dB/d{ax} at the sample"),

@@ -396,7 +396,7 @@ def fid_frequency_crb_hz(amplitude_to_noise: float, t2_s: float, sample_interval
             raise InputError("record_s", record_s, "a record length in s when T2 is infinite", _HERE)
         return math.sqrt(dt / t2**3) / (math.pi * snr)
     rec = _finite("record_s", record_s, positive=True)
-    n = int(rec / dt)
+    n = int(round(rec / dt))  # number of samples in the record
     if n < 3:
         raise InputError("record_s", record_s, "at least three sample intervals long", _HERE)
     # Work in units of dt so the sums stay well scaled.
