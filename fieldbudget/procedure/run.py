@@ -247,9 +247,23 @@ class ProcedureRun:
             outcome = self.evaluate()
         except FieldbudgetError as err:
             self._current = False
-            self._errors = {str(getattr(err, "field", "") or "measurement"): str(err)}
+            self._errors = {self._component_for(err): str(err)}
             return
         self._outcome, self._current, self._errors = outcome, True, {}
+
+    def _component_for(self, err: FieldbudgetError) -> str:
+        """The id of the component a domain-layer error concerns, else ``"measurement"``.
+
+        A file error's JSON pointer (``#/line/fwhm_Hz``) or an input error's
+        field is matched against the components' targets.
+        """
+        pointer = getattr(err, "pointer", None)
+        key = pointer.lstrip("#/").replace("/", ".") if pointer else str(getattr(err, "field", "") or "")
+        if key:
+            for comp in self.procedure.components:
+                if key in (comp.id, comp.target):
+                    return comp.id
+        return "measurement"
 
     @property
     def outcome(self) -> Any:
@@ -334,6 +348,10 @@ class ProcedureRun:
     @property
     def _where(self) -> str:
         return f"procedure {self.procedure.id!r}"
+
+    @property
+    def _values_where(self) -> str:
+        return f"values entered for procedure {self.procedure.id!r}"
 
     def _store(self, component_id: str, value: Any) -> None:
         try:
@@ -437,10 +455,10 @@ class ProcedureRun:
         if self.procedure.kind == "nmr-field":
             from ..nmr.measurement import NMRMeasurement
 
-            return NMRMeasurement.from_dict(d)
+            return NMRMeasurement.from_dict(d, where=self._values_where)
         from .. import calibration
 
-        return calibration.TeslameterCalibration.from_dict(d)
+        return calibration.TeslameterCalibration.from_dict(d, where=self._values_where)
 
     def budget(self) -> Any:
         """The engine budget of this run (for a calibration: of its first point)."""

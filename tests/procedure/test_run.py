@@ -218,7 +218,7 @@ def test_rejected_by_the_nmr_layer_keeps_last_good_result(run):
     assert not run.current
     assert run.result is good
     (field, message), = run.errors.items()
-    assert "fwhm_Hz" in message
+    assert field == "line_fwhm" and "#/line/fwhm_Hz" in message
     report = run.check()
     assert next(v for v in report.verdicts if v.limit.id == "u-rel").passed is None
 
