@@ -184,4 +184,8 @@ def parse_quantity(text: str, where: str = "quantity") -> tuple[float, str]:
     if not m:
         raise InputError("quantity", text, "a number followed by a unit, such as '42.58 MHz' or '1.5 T'", where)
     value = float(m.group(1))
-    return value, normalise_unit(m.group(2), "unit", where)
+    try:
+        unit = normalise_unit(m.group(2), "unit", where)
+    except InputError:
+        raise InputError("quantity", text, f"a number followed by a unit, the unit {_allowed_text()}", where) from None
+    return value, unit
