@@ -172,6 +172,16 @@ class BudgetResult:
             lines.append(f"warning: {w}")
         return "\n".join(lines)
 
+    def to_dataframe(self):
+        """The budget table as a pandas DataFrame (needs pandas, which fieldbudget does not require)."""
+        try:
+            import pandas as pd
+        except ImportError:
+            from ..errors import InputError
+
+            raise InputError("to_dataframe", "pandas", "installed (pip install pandas)") from None
+        return pd.DataFrame([c.to_dict() for c in self.contributions]).set_index("symbol")
+
     def _repr_html_(self) -> str:
         m = self.measurand
         unit = f" {m.unit}" if m.unit else ""

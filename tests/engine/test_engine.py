@@ -109,3 +109,10 @@ def test_fixed_coverage_policy():
     assert r.coverage_factor == 2.0 and "laboratory's policy" in r.statement()
     t = evaluate(b.replace(coverage_policy="t"))
     assert round(t.coverage_factor, 2) == 3.31  # JCGM 100 Table G.2: t_95.45(3) = 3.31
+
+
+def test_to_dataframe(power_budget):
+    pd = pytest.importorskip("pandas")
+    df = evaluate(power_budget).to_dataframe()
+    assert isinstance(df, pd.DataFrame) and list(df.index) == ["V", "R"]
+    assert df.loc["V", "u_contribution"] == pytest.approx(0.002)
