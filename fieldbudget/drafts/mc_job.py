@@ -62,7 +62,7 @@ class MonteCarloJob:
         The message of the last run that failed or was cancelled.
     """
 
-    def __init__(self, trials: int = 200_000, seed: int = 1) -> None:
+    def __init__(self, trials: int = 1_000_000, seed: int = 1) -> None:
         self.trials = Field("trials", str(trials), _parse_trials)
         self.seed = Field("seed", str(seed), _parse_seed)
         self.state = "idle"
@@ -71,6 +71,7 @@ class MonteCarloJob:
         self.result: Any = None
         self.validation: Any = None
         self.gum: Any = None
+        self.budget: Any = None  # the budget the last finished run propagated
         self.error: str | None = None
         self._stop = threading.Event()
         self._thread: threading.Thread | None = None
@@ -130,7 +131,7 @@ class MonteCarloJob:
 
             mc = montecarlo.run(budget, trials, seed, progress=self._progress, should_stop=self._stop.is_set)
             gum = gum if gum is not None else evaluate(budget)
-            self.result, self.gum, self.validation = mc, gum, None
+            self.result, self.gum, self.validation, self.budget = mc, gum, None, budget
             try:
                 from ..engine import validation
             except ImportError:  # an engine without the comparison still gives the Monte Carlo result

@@ -1,0 +1,404 @@
+"""The NMR measurement being entered: the measurement description as text fields.
+
+:class:`NMRDraft` keeps one :class:`Field` per key path of the NMR measurement
+description (``frequency.readings_Hz``, ``sample.temperature_C``, ...; the
+keys of :mod:`fieldbudget.nmr.measurement`).  On each change it writes the
+parsed values back into a plain dict, hands it to
+:class:`~fieldbudget.nmr.measurement.NMRMeasurement`, which checks it and
+builds the budget, and evaluates it.  Errors come back with a JSON pointer
+and are shown beside the field they name; the physics warnings of the result
+are placed beside the fields they concern.  It has the same reading side as
+:class:`~fieldbudget.drafts.BudgetDraft` (``budget``, ``result``, ``current``,
+``errors``, ``subscribe``), so the budget view, the Monte Carlo panel and the
+export bar work over either.
+"""
+
+from __future__ import annotations
+
+import copy
+import json
+import math
+import re
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from ..errors import BudgetFileError, FieldbudgetError, InputError
+from .field import Field, message_for, parse_choice, parse_readings, parse_text
+from .readings import readings_from_csv
+
+__all__ = ["NMRDraft", "FieldSpec", "NMR_FIELDS", "SECTIONS"]
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """How one key of the measurement description is entered.
+
+    ``kind`` is ``number``, ``numbers``, ``vector`` (one number or up to three),
+    ``choice``, ``edition`` (a CODATA year) or ``text``; a blank box leaves the
+    key out of the description.
+    """
+
+    path: str
+    label: str
+    kind: str = "number"
+    section: str = "other"
+    unit: str = ""
+    help: str = ""
+    choices: tuple = ()
+
+
+SECTIONS = ("nucleus and constants", "frequency", "frequency standard", "sample", "line",
+            "gradient and position", "probe", "other")
+
+NMR_FIELDS: tuple[FieldSpec, ...] = (
+    FieldSpec("nucleus", "nucleus", "choice", "nucleus and constants"),
+    FieldSpec("codata", "CODATA edition", "edition", "nucleus and constants"),
+    FieldSpec("coverage_probability", "coverage probability", "number", "nucleus and constants"),
+    FieldSpec("frequency.readings_Hz", "counter readings", "numbers", "frequency", "Hz",
+              "typed or pasted, separated by spaces, commas or new lines; or load the counter's CSV file"),
+    FieldSpec("frequency.value_Hz", "single reading", "number", "frequency", "Hz", "instead of readings"),
+    FieldSpec("frequency.u_Hz", "its standard uncertainty", "number", "frequency", "Hz"),
+    FieldSpec("frequency.counter_resolution_Hz", "counter resolution", "number", "frequency", "Hz"),
+    FieldSpec("frequency.source", "counter", "text", "frequency"),
+    FieldSpec("timebase.offset", "fractional offset y", "number", "frequency standard", "",
+              "from the certificate: f_true = f_read (1 + y)"),
+    FieldSpec("timebase.u", "standard uncertainty of y", "number", "frequency standard"),
+    FieldSpec("timebase.ageing_per_day", "ageing per day", "number", "frequency standard", "1/day"),
+    FieldSpec("timebase.days_since_calibration", "days since calibration", "number", "frequency standard", "d"),
+    FieldSpec("timebase.source", "certificate", "text", "frequency standard"),
+    FieldSpec("sample.shape", "sample shape", "choice", "sample",
+              choices=("", "sphere", "cylinder", "long-cylinder", "spheroid", "ellipsoid")),
+    FieldSpec("sample.temperature_C", "sample temperature", "number", "sample", "degC"),
+    FieldSpec("sample.u_temperature_C", "its standard uncertainty", "number", "sample", "degC"),
+    FieldSpec("sample.susceptibility", "volume susceptibility", "number", "sample", "",
+              "leave blank for pure water (looked up)"),
+    FieldSpec("sample.length_over_diameter", "length / diameter", "number", "sample"),
+    FieldSpec("sample.diameter_m", "diameter", "number", "sample", "m"),
+    FieldSpec("sample.length_m", "length", "number", "sample", "m"),
+    FieldSpec("sample.source", "sample", "text", "sample"),
+    FieldSpec("line.fwhm_Hz", "line width (FWHM)", "number", "line", "Hz"),
+    FieldSpec("line.snr", "signal-to-noise ratio", "number", "line"),
+    FieldSpec("line.points_per_fwhm", "points per FWHM", "number", "line"),
+    FieldSpec("line.u_Hz", "or: u of the line centre", "number", "line", "Hz"),
+    FieldSpec("gradient_T_per_m", "field gradient", "vector", "gradient and position", "T/m",
+              "one value (along the offset) or x y z"),
+    FieldSpec("u_gradient_T_per_m", "its standard uncertainty", "vector", "gradient and position", "T/m"),
+    FieldSpec("offset_m", "sample centre minus reference point", "vector", "gradient and position", "m"),
+    FieldSpec("u_offset_m", "its standard uncertainty", "vector", "gradient and position", "m"),
+    FieldSpec("probe.tuning_range_Hz", "probe tuning range (low high)", "numbers", "probe", "Hz"),
+    FieldSpec("probe_perturbation.value", "probe perturbation", "number", "probe", "",
+              "fractional field change from the probe's materials"),
+    FieldSpec("probe_perturbation.u", "its standard uncertainty", "number", "probe"),
+)
+
+#: Keywords of the NMR physics warnings -> the field each concerns (first match wins).
+_WARNING_PLACES = (
+    ("temperature", "sample.temperature_C"),
+    ("tuning range", "probe.tuning_range_Hz"),
+    ("gradient", "gradient_T_per_m"),
+    ("resolution", "frequency.counter_resolution_Hz"),
+    ("linewidth", "line.fwhm_Hz"),
+    ("shape", "sample.shape"),
+    ("susceptib", "sample.susceptibility"),
+    ("timebase", "timebase.offset"),
+    ("drift", "frequency.readings_Hz"),
+)
+
+Listener = Callable[["NMRDraft"], None]
+
+
+def _parse_number_or_blank(text: str, name: str) -> float | None:
+    s = text.strip().replace("\u2212", "-")
+    if not s:
+        return None
+    try:
+        x = float(s)
+    except ValueError:
+        raise InputError(name, text, "a finite number, or blank to leave it out") from None
+    if not math.isfinite(x):
+        raise InputError(name, text, "a finite number, or blank to leave it out")
+    return x
+
+
+def _parse_numbers_or_blank(text: str, name: str) -> tuple[float, ...] | None:
+    return parse_readings(text, name) or None
+
+
+def _parse_vector(text: str, name: str) -> float | tuple[float, ...] | None:
+    v = parse_readings(text, name)
+    if len(v) > 3:
+        raise InputError(name, text, "one number, or three (x y z)")
+    return None if not v else v[0] if len(v) == 1 else v
+
+
+def _parse_edition(text: str, name: str) -> int | None:
+    s = text.strip()
+    if not s:
+        return None
+    if not s.isdigit():
+        raise InputError(name, text, "a CODATA edition year such as 2022")
+    return int(s)
+
+
+def _text_of(value: Any) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, float):
+        s = repr(value)
+        return s[:-2] if s.endswith(".0") else s
+    if isinstance(value, (list, tuple)):
+        return "\n".join(_text_of(v) for v in value) if len(value) > 3 else " ".join(_text_of(v) for v in value)
+    return str(value)
+
+
+def _spec_for(path: str, value: Any) -> FieldSpec:
+    """A field spec for a key the built-in list does not name, from its value's type."""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        kind = "number"
+    elif isinstance(value, (list, tuple)) and all(isinstance(v, (int, float)) for v in value):
+        kind = "numbers"
+    else:
+        kind = "text"
+    return FieldSpec(path, path.rsplit(".", 1)[-1].replace("_", " "), kind, "other")
+
+
+def _parser(spec: FieldSpec, choices: Mapping[str, tuple]) -> Callable[[str, str], Any]:
+    if spec.kind == "number":
+        return _parse_number_or_blank
+    if spec.kind == "numbers":
+        return _parse_numbers_or_blank
+    if spec.kind == "vector":
+        return _parse_vector
+    if spec.kind == "edition":
+        return _parse_edition
+    if spec.kind == "choice":
+        opts = tuple(choices.get(spec.path, spec.choices))
+        return parse_choice(opts) if opts else parse_text
+    return lambda text, name: text.strip() or None
+
+
+def _leaves(d: Mapping, prefix: str = "") -> Iterable[tuple[str, Any]]:
+    for k, v in d.items():
+        p = f"{prefix}{k}"
+        if isinstance(v, Mapping):
+            yield from _leaves(v, p + ".")
+        else:
+            yield p, v
+
+
+def default_choices() -> dict[str, tuple]:
+    """Choices offered for the nucleus and the CODATA edition, from the layers that know them."""
+    out: dict[str, tuple] = {}
+    try:
+        from ..nmr.nuclei import nucleus_names
+
+        out["nucleus"] = tuple(nucleus_names())
+    except ImportError:  # pragma: no cover - the NMR layer ships with the package
+        pass
+    try:
+        from ..constants import editions
+
+        out["codata"] = tuple(editions())
+    except ImportError:  # pragma: no cover
+        pass
+    return out
+
+
+class NMRDraft:
+    """The editable state of one NMR measurement description.
+
+    Parameters
+    ----------
+    measurement : dict
+        An NMR measurement description (the keys of the measurement file).
+        Keys the form does not show are kept and passed on unchanged.
+    fields : sequence of FieldSpec, optional
+        The fields offered (default :data:`NMR_FIELDS`).
+    base_dir : str or Path
+        Where a ``readings_csv`` path in the description is looked up.
+    """
+
+    def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] = NMR_FIELDS,
+                 base_dir: str | Path = ".", choices: Mapping[str, tuple] | None = None) -> None:
+        self.base = copy.deepcopy(dict(measurement or {}))
+        self.base_dir = str(base_dir)
+        self.choices = dict(default_choices() if choices is None else choices)
+        leaves = dict(_leaves(self.base))
+        specs = {s.path: s for s in fields}
+        for path, value in leaves.items():
+            if path not in specs and path != "format":
+                specs[path] = _spec_for(path, value)
+        for path in ("nucleus", "codata"):
+            if path in specs and specs[path].kind == "choice" and path in self.choices and path in leaves:
+                if leaves[path] not in self.choices[path]:  # keep a value given in the file selectable
+                    self.choices[path] = (leaves[path], *self.choices[path])
+        self.specs: dict[str, FieldSpec] = specs
+        self.fields: dict[str, Field] = {
+            p: Field(p, _text_of(leaves.get(p)), _parser(s, self.choices)) for p, s in specs.items()}
+        self.measurement: Any = None
+        self.nmr_result: Any = None
+        self.last_good_budget: Any = None
+        self.last_good_result: Any = None
+        self.current = False
+        self.general_error: str | None = None
+        self.warnings_by_field: dict[str, list[str]] = {}
+        self.other_warnings: list[str] = []
+        self._listeners: list[Listener] = []
+        self.rebuild()
+
+    @classmethod
+    def from_file(cls, path: str | Path) -> "NMRDraft":
+        p = Path(path)
+        return cls(json.loads(p.read_text(encoding="utf-8")), base_dir=p.parent)
+
+    # -- listeners ---------------------------------------------------------------------
+    def subscribe(self, listener: Listener) -> Callable[[], None]:
+        self._listeners.append(listener)
+        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
+
+    def _changed(self) -> None:
+        self.rebuild()
+        for fn in list(self._listeners):
+            fn(self)
+
+    # -- edits ---------------------------------------------------------------------------
+    def set(self, path: str, text: object) -> bool:
+        """Set the field at ``path`` from text; returns whether the budget was rebuilt from it."""
+        if path not in self.fields:
+            raise InputError("field", path, "one of " + ", ".join(self.fields))
+        self.fields[path].set(text)
+        self._changed()
+        return self.current
+
+    def set_readings_text(self, text: str) -> bool:
+        """Readings typed or pasted into the readings box."""
+        return self.set("frequency.readings_Hz", text)
+
+    def load_counter_csv(self, content: str | bytes, column: str | int | None = None,
+                         name: str = "counter file") -> bool:
+        """Readings from a counter's CSV export; they replace the readings box's text."""
+        try:
+            readings = readings_from_csv(content, column, where=name)
+        except InputError as err:
+            self.fields["frequency.readings_Hz"].error = message_for(err)
+            for fn in list(self._listeners):
+                fn(self)
+            return False
+        return self.set("frequency.readings_Hz", "\n".join(_text_of(r) for r in readings))
+
+    # -- reading side ------------------------------------------------------------------------
+    @property
+    def budget(self) -> Any:
+        return self.last_good_budget
+
+    @property
+    def result(self) -> Any:
+        return self.last_good_result
+
+    @property
+    def errors(self) -> dict[str, str]:
+        out = {p: f.error for p, f in self.fields.items() if f.error}
+        if self.general_error:
+            out[""] = self.general_error
+        return out
+
+    def sections(self) -> dict[str, list[FieldSpec]]:
+        """The field specs grouped by section, in form order."""
+        out: dict[str, list[FieldSpec]] = {s: [] for s in SECTIONS}
+        for s in self.specs.values():
+            out.setdefault(s.section, []).append(s)
+        return {k: v for k, v in out.items() if v}
+
+    def description(self) -> dict:
+        """The measurement description from the fields as now parsed (blank fields left out)."""
+        d = copy.deepcopy(self.base)
+        for path, f in self.fields.items():
+            keys = path.split(".")
+            parent = d
+            for k in keys[:-1]:
+                parent = parent.setdefault(k, {})
+                if not isinstance(parent, dict):
+                    break
+            else:
+                v = f.value
+                if v is None or (isinstance(v, str) and not v):
+                    parent.pop(keys[-1], None)
+                else:
+                    parent[keys[-1]] = list(v) if isinstance(v, tuple) else v
+        for k in [k for k, v in d.items() if isinstance(v, dict) and not v]:
+            del d[k]  # a section whose boxes are all blank
+        return d
+
+    def save_measurement(self, path: str | Path) -> Path:
+        """Write the last good description as a measurement file (atomically)."""
+        from ..files.atomic import atomic_write_text
+
+        if self.measurement is None:
+            raise InputError("measurement", None, "a description that could be evaluated before saving it")
+        return atomic_write_text(path, json.dumps(self.measurement.to_dict(), indent=2) + "\n")
+
+    # -- rebuilding ------------------------------------------------------------------------------
+    def _place(self, err: Exception) -> None:
+        msg = message_for(err)
+        if isinstance(err, BudgetFileError):
+            path = ".".join(p for p in err.pointer.lstrip("#").split("/") if p)
+            msg = err.reason
+            # the field itself, else the first field of the section it names
+            target = path if path in self.fields else next(
+                (p for p in self.fields if path and p.startswith(path + ".")), None)
+            if target is None and path.count("."):
+                parent = path.rsplit(".", 1)[0]
+                target = parent if parent in self.fields else None
+            if target is not None:
+                self.fields[target].error = f"{target.rsplit('.', 1)[-1]} {msg}"
+                return
+        elif isinstance(err, InputError):
+            for p in self.fields:
+                if p == err.field or p.endswith("." + str(err.field)):
+                    self.fields[p].error = msg
+                    return
+        self.general_error = msg
+
+    def _place_warnings(self, warnings: Iterable[str], findings: Iterable[Any] = ()) -> None:
+        self.warnings_by_field, self.other_warnings = {}, []
+        named = {getattr(f, "message", None): getattr(f, "field", None) for f in findings}
+        for text in warnings:
+            where = named.get(text)
+            if where not in self.fields:
+                low = text.lower()
+                where = next((p for k, p in _WARNING_PLACES if k in low and p in self.fields), None)
+            if where is None:
+                self.other_warnings.append(text)
+            else:
+                self.warnings_by_field.setdefault(where, []).append(text)
+
+    def rebuild(self) -> bool:
+        for f in self.fields.values():  # clear what the NMR layer said last time; parse errors come back
+            if f.error is not None:
+                f.set(f.text)
+        self.general_error = None
+        self.current = False
+        if any(f.error for f in self.fields.values()):
+            return False
+        try:
+            from ..nmr.measurement import NMRMeasurement
+
+            m = NMRMeasurement.from_dict(self.description(), where="measurement", base_dir=self.base_dir)
+            res = m.evaluate()
+        except FieldbudgetError as err:
+            self._place(err)
+            return False
+        self.measurement, self.nmr_result = m, res
+        self.last_good_budget, self.last_good_result = res.budget, res.result
+        self._place_warnings(res.nmr_warnings, getattr(res, "findings", ()) or ())
+        self.current = True
+        return True
+
+    def __repr__(self) -> str:
+        state = "current" if self.current else f"{len(self.errors)} message(s)"
+        nuc = self.fields.get("nucleus")
+        return f"<NMRDraft {nuc.text if nuc else '?'}, {len(self.fields)} fields, {state}>"

@@ -1,0 +1,124 @@
+"""Export buttons: save the budget file, and write a report in each format the report layer offers.
+
+The report formats are looked up at run time, so the bar offers only what
+exists in this installation.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+from typing import Any
+
+import ipywidgets as w
+
+from .._display import escape
+from ._binding import css, guarded, status_html
+
+__all__ = ["ExportBar", "report_writers"]
+
+
+def report_writers() -> tuple[str, ...]:
+    """Report formats this installation can write (empty when the report layer is missing)."""
+    try:
+        from ..files import record  # noqa: F401
+        from ..report import FORMATS
+    except ImportError:
+        return ()
+    return tuple(FORMATS)
+
+
+def _record(budget: Any, job: Any) -> Any:
+    from ..files.record import make_record
+
+    mc = job.result if job is not None and job.state == "done" and job.budget is budget else None
+    return make_record(budget, monte_carlo=mc, seed=mc.seed if mc is not None else None)
+
+
+class ExportBar(w.VBox):
+    """Save the draft's last good budget as a budget file, or write a report of its result.
+
+    Parameters
+    ----------
+    draft
+        Anything with ``budget`` and ``result``; an NMR draft may also offer
+        ``save_measurement(path)``.
+    folder : str or Path
+        Where files go when a bare name is given (the notebook's folder by default).
+    """
+
+    def __init__(self, draft: Any, folder: str | os.PathLike = ".", stem: str = "budget", job: Any = None,
+                 **kwargs) -> None:
+        super().__init__(**kwargs)
+        self.draft = draft
+        self.job = job
+        self.folder = Path(folder)
+        self.status = css(w.HTML(), "fb-status")
+        self.path = css(w.Text(value=f"{stem}.json", description="budget file", continuous_update=False,
+                               style={"description_width": "initial"}, layout=w.Layout(width="24em")),
+                        "fb-export-path")
+        self.save_button = css(w.Button(description="save budget file", icon="save"), "fb-export-budget")
+        self.save_button.on_click(self._save)
+        row = [self.path, self.save_button]
+        if callable(getattr(draft, "save_measurement", None)):
+            self.measurement_button = css(w.Button(description="save measurement file"), "fb-export-measurement")
+            self.measurement_button.on_click(self._save_measurement)
+            row.append(self.measurement_button)
+        self.writers = report_writers()
+        self.report_format = css(w.Dropdown(options=self.writers, description="report",
+                                            layout=w.Layout(width="14em")), "fb-export-format")
+        self.report_button = css(w.Button(description="write report", icon="file"), "fb-export-report")
+        self.report_button.on_click(self._report)
+        self.record_button = css(w.Button(description="save record", icon="archive",
+                                          tooltip="hash-stamped record an assessor can re-check"), "fb-export-record")
+        self.record_button.on_click(self._save_record)
+        reports = w.HBox([self.report_format, self.report_button, self.record_button])
+        if not self.writers:
+            reports.layout.display = "none"
+        self.children = [w.HBox(row), reports, self.status]
+        css(self, "fb-export-bar")
+
+    def _target(self, suffix: str | None = None) -> Path:
+        p = Path(self.path.value.strip() or "budget.json")
+        if suffix is not None:
+            p = p.with_suffix(suffix)
+        return p if p.is_absolute() else self.folder / p
+
+    def _done(self, path: Path) -> None:
+        self.status.value = f'<div class="fb-status-ok">saved {escape(path)}</div>'
+
+    @guarded
+    def _save(self, _button=None) -> None:
+        if self.draft.budget is None:
+            self.status.value = status_html("nothing to save yet: no budget could be evaluated")
+            return
+        from ..files.budget_file import save_budget
+
+        self._done(save_budget(self.draft.budget, self._target()))
+
+    @guarded
+    def _save_measurement(self, _button=None) -> None:
+        self._done(self.draft.save_measurement(self._target(".measurement.json")))
+
+    @guarded
+    def _report(self, _button=None) -> None:
+        if self.draft.budget is None or not self.report_format.value:
+            self.status.value = status_html("nothing to report yet: no budget could be evaluated")
+            return
+        from ..report import SUFFIXES, write_report
+
+        fmt = self.report_format.value
+        suffix = next(s for s, f in SUFFIXES.items() if f == fmt)
+        self._done(write_report(_record(self.draft.budget, self.job), self._target(suffix), to=fmt))
+
+    @guarded
+    def _save_record(self, _button=None) -> None:
+        if self.draft.budget is None:
+            self.status.value = status_html("nothing to record yet: no budget could be evaluated")
+            return
+        from ..files.record import save_record
+
+        self._done(save_record(_record(self.draft.budget, self.job), self._target(".record.json")))
+
+    def __repr__(self) -> str:
+        return f"<ExportBar {self.path.value!r}, reports: {', '.join(self.writers) or 'none'}>"

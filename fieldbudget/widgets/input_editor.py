@@ -1,0 +1,189 @@
+"""The input editor: one row per input quantity, over a :class:`~fieldbudget.drafts.BudgetDraft`.
+
+Each callback reads a widget's value, hands it to one draft method and
+re-renders from the draft; the draft and the engine decide what is allowed.
+"""
+
+from __future__ import annotations
+
+import ipywidgets as w
+
+from ..drafts.budget_draft import DISTRIBUTIONS, MEANINGS, BudgetDraft, InputRow
+from ._binding import BoundText, css, guarded, message_html, status_html
+
+__all__ = ["InputEditor"]
+
+_MEANING_LABELS = (("standard u", "standard"), ("half-width a", "half-width"),
+                   ("expanded U (with k)", "expanded"), ("readings (Type A)", "readings"))
+_WIDTHS = {"symbol": "6em", "estimate": "10em", "unit": "5em", "uncertainty": "8em", "k": "4em",
+           "dof": "5em", "source": "14em", "readings": "30em"}
+
+
+class _RowView:
+    """The widgets of one input row."""
+
+    def __init__(self, editor: "InputEditor", row: InputRow) -> None:
+        self.row = row
+        f = row.fields
+        self.texts = {k: BoundText(f[k], lambda t, k=k: editor._set(self.row, k, t), width=_WIDTHS[k], key=k,
+                                   area=(k == "readings"), placeholder="readings, one per line" if k == "readings"
+                                   else "")
+                      for k in ("symbol", "estimate", "unit", "uncertainty", "k", "dof", "source", "readings")}
+        self.dist = css(w.Dropdown(options=DISTRIBUTIONS, value=f["distribution"].value or "normal",
+                                   layout=w.Layout(width="9em")), "fb-field", "fb-field-distribution")
+        self.meaning = css(w.Dropdown(options=_MEANING_LABELS, value=f["meaning"].value or "standard",
+                                      layout=w.Layout(width="11em")), "fb-field", "fb-field-meaning")
+        self.dist_msg = css(w.HTML(), "fb-msg")
+        self.meaning_msg = css(w.HTML(), "fb-msg")
+        self._syncing = False
+        self.dist.observe(lambda ch: self._syncing or editor._set(self.row, "distribution", ch["new"]),
+                          names="value")
+        self.meaning.observe(lambda ch: self._syncing or editor._set(self.row, "meaning", ch["new"]),
+                             names="value")
+        buttons = [("\u2191", "move up", lambda _: editor._move(self.row, -1), "fb-row-up"),
+                   ("\u2193", "move down", lambda _: editor._move(self.row, +1), "fb-row-down"),
+                   ("\u2715", "remove this input", lambda _: editor._remove(self.row), "fb-row-remove")]
+        self.buttons = []
+        for label, tip, fn, cls in buttons:
+            b = css(w.Button(description=label, tooltip=tip, layout=w.Layout(width="2.5em")), cls)
+            b.on_click(fn)
+            self.buttons.append(b)
+        t = self.texts
+        cells = [t["symbol"].widget, t["estimate"].widget, t["unit"].widget,
+                 w.VBox([self.dist, self.dist_msg]), t["uncertainty"].widget,
+                 w.VBox([self.meaning, self.meaning_msg]), t["k"].widget, t["dof"].widget, t["source"].widget,
+                 *self.buttons]
+        self.main = css(w.HBox(cells), "fb-input-row")
+        self.widget = css(w.VBox([self.main, t["readings"].widget]), "fb-input")
+        self.sync()
+
+    def sync(self) -> None:
+        f = self.row.fields
+        for bt in self.texts.values():
+            bt.sync()
+        self._syncing = True
+        try:
+            for dd, key, msg in ((self.dist, "distribution", self.dist_msg),
+                                 (self.meaning, "meaning", self.meaning_msg)):
+                if f[key].value is not None and dd.value != f[key].value:
+                    dd.value = f[key].value
+                msg.value = message_html(f[key].error)
+        finally:
+            self._syncing = False
+        keys = self.row.relevant()
+        for k, bt in self.texts.items():
+            bt.set_visible(k in keys)
+        for dd, key in ((self.dist, "distribution"), (self.meaning, "meaning")):
+            dd.layout.visibility = None if key in keys else "hidden"
+
+
+class InputEditor(w.VBox):
+    """Rows of inputs (symbol, estimate, unit, distribution, uncertainty and its meaning, k, dof,
+    source), the model expression and the correlations of one :class:`BudgetDraft`."""
+
+    def __init__(self, draft: BudgetDraft, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self.draft = draft
+        self.status = css(w.HTML(), "fb-status")
+        self.model = BoundText(draft.model, self._set_model, width="32em", key="model",
+                               description="model", tooltip="expression of the input symbols")
+        self.measurand = BoundText(draft.measurand, lambda t: self._set_measurand(name=t), width="10em",
+                                   key="measurand", description="measurand")
+        self.measurand_unit = BoundText(draft.measurand_unit, lambda t: self._set_measurand(unit=t), width="8em",
+                                        key="measurand-unit", description="unit")
+        self.add_button = css(w.Button(description="add input", icon="plus"), "fb-add-input")
+        self.add_button.on_click(self._add)
+        header = w.HBox([w.HTML(f"<b>{h}</b>", layout=w.Layout(width=wd)) for h, wd in (
+            ("symbol", "6em"), ("estimate", "10em"), ("unit", "5em"), ("distribution", "9em"),
+            ("uncertainty", "8em"), ("stated as", "11em"), ("k", "4em"), ("dof", "5em"), ("source", "14em"))])
+        self.rows_box = css(w.VBox(), "fb-input-rows")
+        self.corr_box = css(w.VBox(), "fb-correlations")
+        self.corr_a = w.Dropdown(layout=w.Layout(width="8em"))
+        self.corr_b = w.Dropdown(layout=w.Layout(width="8em"))
+        self.corr_r = css(w.Text(placeholder="r", continuous_update=False, layout=w.Layout(width="6em")),
+                          "fb-field", "fb-field-correlation")
+        self.corr_add = css(w.Button(description="set correlation"), "fb-add-correlation")
+        self.corr_add.on_click(self._add_correlation)
+        self._row_views: dict[int, _RowView] = {}
+        self._corr_views: list[BoundText] = []
+        self._layout_key: tuple = ()
+        self.children = [
+            css(w.HBox([self.measurand.widget, self.measurand_unit.widget, self.model.widget]), "fb-model-row"),
+            header, self.rows_box, self.add_button,
+            w.HTML("<b>correlations</b> (coefficient r between two inputs; blank removes)"),
+            self.corr_box, w.HBox([self.corr_a, self.corr_b, self.corr_r, self.corr_add]), self.status]
+        css(self, "fb-input-editor")
+        self._unsubscribe = draft.subscribe(lambda d: self.render())
+        self.render()
+
+    # -- callbacks: read -> one draft call -> render (the draft notifies) ---------------
+    @guarded
+    def _set(self, row: InputRow, key: str, text: str) -> None:
+        self.draft.set(row, key, text)
+
+    @guarded
+    def _set_model(self, text: str) -> None:
+        self.draft.set_model(text)
+
+    @guarded
+    def _set_measurand(self, name: str | None = None, unit: str | None = None) -> None:
+        self.draft.set_measurand(name, unit)
+
+    @guarded
+    def _add(self, _button=None) -> None:
+        self.draft.add_row(symbol=f"x{len(self.draft.rows) + 1}")
+
+    @guarded
+    def _remove(self, row: InputRow) -> None:
+        self.draft.remove_row(row)
+
+    @guarded
+    def _move(self, row: InputRow, offset: int) -> None:
+        self.draft.move_row(row, offset)
+
+    @guarded
+    def _add_correlation(self, _button=None) -> None:
+        self.draft.set_correlation(self.corr_a.value, self.corr_b.value, self.corr_r.value)
+
+    # -- rendering ----------------------------------------------------------------------
+    @guarded
+    def render(self) -> None:
+        d = self.draft
+        with self.hold_sync():
+            key = tuple(r.id for r in d.rows) + ("|",) + tuple((a, b) for a, b, _ in d.correlations)
+            if key != self._layout_key:
+                self._rebuild_layout()
+                self._layout_key = key
+            for bt in (self.model, self.measurand, self.measurand_unit, *self._corr_views):
+                bt.sync()
+            for rv in self._row_views.values():
+                rv.sync()
+            self.status.value = status_html(d.general_error)
+
+    def _rebuild_layout(self) -> None:
+        d = self.draft
+        views = {}
+        for r in d.rows:
+            views[r.id] = self._row_views.get(r.id) or _RowView(self, r)
+        self._row_views = views
+        self.rows_box.children = [views[r.id].widget for r in d.rows]
+        self._corr_views = [BoundText(f, lambda t, a=a, b=b: self._set_corr(a, b, t), width="6em",
+                                      key="correlation") for a, b, f in d.correlations]
+        self.corr_box.children = [w.HBox([w.HTML(f"r({a}, {b})", layout=w.Layout(width="10em")), bt.widget])
+                                  for (a, b, _), bt in zip(d.correlations, self._corr_views)]
+        symbols = [r.symbol for r in d.rows if r.symbol]
+        self.corr_a.options = symbols
+        self.corr_b.options = symbols
+        if len(symbols) > 1:
+            self.corr_b.value = symbols[1]
+
+    @guarded
+    def _set_corr(self, a: str, b: str, text: str) -> None:
+        self.draft.set_correlation(a, b, text)
+
+    def close(self) -> None:
+        self._unsubscribe()
+        super().close()
+
+    def __repr__(self) -> str:
+        return f"<InputEditor over {self.draft!r}>"
