@@ -315,6 +315,7 @@ def lookup_other(name: str) -> ReferenceValue:
     Names: ``"proton shielding temperature coefficient in water"``,
     ``"volume magnetic susceptibility of water"``,
     ``"relative temperature coefficient of the volume magnetic susceptibility of water"``,
+    ``"reference temperature of the volume magnetic susceptibility of water"`` (20 degC),
     ``"mass magnetic susceptibility of water (CGS)"``,
     ``"shielded proton reference temperature"``, and for each IUPAC isotope
     ``"7Li gyromag. ratio"`` / ``"7Li gyromag. ratio in MHz/T"``.

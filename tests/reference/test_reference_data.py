@@ -139,6 +139,7 @@ def test_water_susceptibility_from_auer_mass_susceptibility():
     assert round(converted * 1e6, 4) == -9.0545
     assert abs(converted - chi_v.value) <= chi_v.uncertainty
     assert chi_v.value == -9.05e-6 and chi_v.is_dimensionless
+    assert lookup_other("reference temperature of the volume magnetic susceptibility of water").value == 20.0
 
 
 def test_water_susceptibility_temperature_coefficient_is_a_documented_bound():
