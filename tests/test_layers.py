@@ -34,3 +34,11 @@ def test_engine_and_constants_know_nothing_of_nmr():
         for f in (PKG / layer).rglob("*.py"):
             text = f.read_text()
             assert "fieldbudget.nmr" not in text and "from ..nmr" not in text and "from ...nmr" not in text, f
+
+
+def test_import_linter_contracts():
+    # the layer map of DEVELOPERS.md, as contracts in pyproject.toml
+    root = Path(__file__).resolve().parents[1]
+    exe = Path(sys.executable).with_name("lint-imports")
+    proc = subprocess.run([str(exe)], capture_output=True, text=True, cwd=root)
+    assert proc.returncode == 0, proc.stdout[-3000:]
