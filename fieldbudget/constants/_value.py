@@ -9,7 +9,7 @@ uncertainty budget needs it.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 from fractions import Fraction
 
@@ -97,7 +97,7 @@ class ReferenceValue:
     valid_from: float | None = None
     valid_to: float | None = None
     valid_unit: str = ""
-    aka: str = field(default="", compare=True)
+    aka: str = ""
 
     def __post_init__(self) -> None:
         where = f"reference value {self.name!r}" if isinstance(self.name, str) else "reference value"

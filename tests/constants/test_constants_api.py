@@ -315,3 +315,17 @@ def test_import_does_not_pull_in_scipy_or_pint():
             "print(','.join(m for m in ('scipy', 'pint', 'numpy') if m in sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
+
+
+def test_alias_table_matches_the_tables():
+    # every older spelling exists in its edition and not the current one; the current
+    # spelling exists in 2018 and 2022 (CODATA 2014 / 2018 / 2022 NIST tables)
+    from fieldbudget.constants import _tables
+
+    assert _tables._aliases()
+    for current, by_year in _tables._aliases().items():
+        for year, old in by_year.items():
+            assert old in names(year) and current not in names(year)
+            assert lookup(old, year).aka == current
+        for year in (2018, 2022):
+            assert current in names(year)
