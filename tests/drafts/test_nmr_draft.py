@@ -1,0 +1,108 @@
+"""NMRDraft: the NMR measurement description as text fields, evaluated on each valid change."""
+
+import math
+import statistics
+
+import pytest
+import scipy.constants as sc
+
+from fieldbudget.drafts.nmr_draft import NMRDraft
+from fieldbudget.nmr.measurement import NMRMeasurement
+from nmr_description import nmr_description
+
+
+@pytest.fixture
+def draft():
+    return NMRDraft(nmr_description())
+
+
+def test_draft_evaluates_like_the_nmr_layer(draft):
+    direct = NMRMeasurement.from_dict(nmr_description()).evaluate()
+    assert draft.current and draft.errors == {}
+    assert draft.result.to_dict() == direct.result.to_dict()
+    assert len(draft.budget.inputs) == 15
+
+
+def test_field_is_close_to_frequency_over_gamma_p_codata_2022(draft):
+    # B ~ f / (gamma'_p / 2 pi): CODATA 2022 via scipy.constants, 'shielded proton gyromag. ratio in MHz/T';
+    # the corrections of the model (temperature, shape, timebase) are a few ppm here.
+    f = statistics.fmean(nmr_description()["frequency"]["readings_Hz"])
+    gamma = sc.physical_constants["shielded proton gyromag. ratio in MHz/T"][0] * 1e6
+    assert draft.result.estimate == pytest.approx(f / gamma, rel=1e-5)
+
+
+def test_bad_value_beside_its_field_last_good_kept(draft):
+    good = draft.result
+    assert draft.set("sample.u_temperature_C", "-0.3") is False
+    assert draft.result is good and not draft.current
+    assert list(draft.errors) == ["sample.u_temperature_C"]
+    assert "-0.3" in draft.errors["sample.u_temperature_C"]
+    assert draft.fields["sample.u_temperature_C"].text == "-0.3"
+    draft.set("sample.u_temperature_C", "warm")
+    assert draft.errors == {"sample.u_temperature_C":
+                            "sample.u_temperature_C must be a finite number, or blank to leave it out (got 'warm')"}
+    draft.set("sample.u_temperature_C", "3")
+    assert draft.current and draft.result.standard_uncertainty > good.standard_uncertainty
+
+
+def test_conflicting_keys_are_marked_on_a_frequency_field(draft):
+    draft.set("frequency.value_Hz", "42576395")
+    (path, msg), = draft.errors.items()
+    assert path.startswith("frequency.") and "exactly one of" in msg
+    draft.set("frequency.value_Hz", "")
+    assert draft.current
+
+
+def test_physics_warnings_sit_beside_their_fields(draft):
+    draft.set("sample.temperature_C", "60")  # outside the 5-45 degC validity of the shielding coefficient
+    assert list(draft.warnings_by_field) == ["sample.temperature_C"]
+    assert "outside" in draft.warnings_by_field["sample.temperature_C"][0]
+    draft.set("gradient_T_per_m", "0.002")  # broadens the line far beyond its width
+    assert "gradient_T_per_m" in draft.warnings_by_field
+    draft.set("sample.temperature_C", "22.5")
+    draft.set("gradient_T_per_m", "1e-5")
+    assert draft.warnings_by_field == {} and draft.other_warnings == []
+
+
+def test_blank_box_leaves_the_key_out(draft):
+    draft.set("probe_perturbation.u", "")
+    draft.set("probe_perturbation.value", "")
+    draft.set("probe_perturbation.source", "")
+    assert "probe_perturbation" not in draft.description()
+    assert "d_probe" not in {q.symbol for q in draft.budget.inputs}
+
+
+def test_readings_from_counter_csv(draft):
+    readings = [42576395.10, 42576395.30, 42576395.25]
+    csv = "time_s;frequency_Hz\n" + "\n".join(f"{i};{r}" for i, r in enumerate(readings))
+    assert draft.load_counter_csv(csv.encode())
+    c = draft.result.contribution("f_read")
+    assert c.estimate == pytest.approx(statistics.fmean(readings), rel=1e-15)
+    assert c.standard_uncertainty == pytest.approx(statistics.stdev(readings) / math.sqrt(3))  # GUM 4.2.3
+    assert draft.fields["frequency.readings_Hz"].text.splitlines()[0] == "42576395.1"
+
+
+def test_bad_counter_csv_keeps_readings(draft):
+    before = draft.fields["frequency.readings_Hz"].text
+    assert not draft.load_counter_csv(b"frequency_Hz\n42576395.1\nabc\n")
+    assert "line 3" in draft.errors["frequency.readings_Hz"]
+    assert draft.fields["frequency.readings_Hz"].text == before and draft.current
+
+
+def test_edition_choice_and_keys_not_in_the_form_are_kept():
+    desc = nmr_description()
+    desc["metadata"] = {"operator": "A. N. Other"}
+    d = NMRDraft(desc)
+    assert d.description()["metadata"] == {"operator": "A. N. Other"}
+    d.set("codata", "2018")
+    assert d.current and d.budget.metadata["codata"] == 2018
+
+
+def test_save_measurement_round_trip(draft, tmp_path):
+    p = draft.save_measurement(tmp_path / "m.json")
+    again = NMRDraft.from_file(p)
+    assert again.result.to_dict() == draft.result.to_dict()
+
+
+def test_repr(draft):
+    assert repr(draft) == "<NMRDraft shielded-proton, 38 fields, current>"
