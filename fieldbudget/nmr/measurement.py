@@ -323,13 +323,6 @@ def _other(name: str):
     return constants.lookup_other(name)
 
 
-def _try_other(name: str):
-    try:
-        return constants.lookup_other(name)
-    except (FieldbudgetError, KeyError):
-        return None
-
-
 def _build(m: NMRMeasurement) -> Budget:
     top = _Reader(m.description, m.where)
     top.check_keys(_TOP_KEYS)
@@ -359,7 +352,8 @@ def _build(m: NMRMeasurement) -> Budget:
     ref_name = nuc.reference if nuc.kind in ("codata", "electron") else None
     gamma = add(InputQuantity(
         nuc.symbol, abs(rv.value), Normal(u=rv.uncertainty), unit="MHz/T", reference=ref_name,
-        source=f"{_edition_label(rv)}: {rv.name}", description=f"gamma/2pi, {nuc.condition}",
+        source=f"{_edition_label(rv)}: {rv.name}" + ("" if ref_name else f" ({rv.source})"),
+        description=f"gamma/2pi, {nuc.condition}",
         note="; ".join(x for x in (nuc.note, _sign_note(rv)) if x)))
     den = [f"{gamma} * 1e6"]
 
@@ -690,14 +684,15 @@ def _shape_inputs(sample: _Reader, nuc: Nucleus, t_sym: str | None):
                             description="SI volume magnetic susceptibility of the sample"))
     factor = "(1 + chi * (1/3 - N_d))"
     if water and t_sym is not None:
-        tc, t_chi = _try_other(_CHI_TC), _try_other(_CHI_T)
-        if tc is not None and t_chi is not None:
-            qs.append(InputQuantity("c_chi", tc.value, Normal(u=tc.uncertainty), unit="1/K",
-                                    source=f"{tc.edition}: {tc.source}",
-                                    description="relative temperature coefficient of the water susceptibility"))
-            qs.append(InputQuantity("t_chi", t_chi.value, Normal(u=0.0), unit="degC", source=t_chi.source,
-                                    description="temperature at which the water susceptibility is given"))
-            factor = f"(1 + chi * (1 + c_chi * ({t_sym} - t_chi)) * (1/3 - N_d))"
+        # the water susceptibility's own temperature dependence (a bound with estimate 0 in the data)
+        tc, t_chi = _other(_CHI_TC), _other(_CHI_T)
+        qs.append(InputQuantity("c_chi", tc.value, Normal(u=tc.uncertainty), unit="1/K",
+                                source=f"{tc.edition}: {tc.source}",
+                                description="relative temperature coefficient of the water susceptibility",
+                                note="the data state a rectangular bound; carried by its standard uncertainty"))
+        qs.append(InputQuantity("t_chi", t_chi.value, Normal(u=0.0), unit="degC", source=t_chi.source,
+                                description="temperature at which the water susceptibility is given"))
+        factor = f"(1 + chi * (1 + c_chi * ({t_sym} - t_chi)) * (1/3 - N_d))"
     return qs, factor
 
 
