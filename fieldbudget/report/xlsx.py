@@ -1,0 +1,181 @@
+"""XLSX workbook (openpyxl) whose budget sheet recomputes the budget with live formulas.
+
+Sheet ``Budget``: one row per input with the stated uncertainty and the
+divisor of its distribution as input cells, and formulas for
+
+- u(x_i) = stated / divisor (JCGM 100:2008 4.3.4, 4.3.7, 4.3.9; EA-4/02 M for arcsine),
+  or SQRT(a^2/3 + d^2/9) for a curvilinear trapezoid (JCGM 101:2008 6.4.3),
+  or STDEV(readings)/SQRT(COUNT(readings)) for Type A (JCGM 100:2008 4.2.3);
+- u_i(y) = ABS(c_i) * u(x_i) (JCGM 100:2008 5.1.3), with c_i as values from the engine;
+- u_c = SQRT(SUMSQ(u_i(y)) + sum over pairs 2 r_ij c_i c_j u(x_i) u(x_j)) (JCGM 100:2008 5.2.2, eq. 13);
+- U = k * u_c (JCGM 100:2008 6.2.1), with k as a value;
+
+so an assessor can audit the arithmetic in any spreadsheet program.  Sheet
+``Readings`` holds Type A readings; sheet ``Record`` the statement, warnings,
+traceability chain, software versions and the digest.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+
+from openpyxl import Workbook
+from openpyxl.styles import Alignment, Font, PatternFill
+from openpyxl.utils import get_column_letter
+
+from .tables import ReportData
+
+__all__ = ["render_xlsx", "BUDGET_SHEET", "CELLS"]
+
+BUDGET_SHEET = "Budget"
+FIRST_ROW = 6
+_HEADS = ("Input", "Estimate x_i", "Unit", "Distribution", "Stated as", "Stated value", "Divisor",
+          "Limit uncertainty d", "u(x_i)", "Degrees of freedom", "Sensitivity c_i", "u_i(y) = |c_i| u(x_i)",
+          "Variance share", "Source")
+# Column letters by meaning (documented for the tests and for the assessor).
+CELLS = {"estimate": "B", "stated": "F", "divisor": "G", "limit": "H", "u_x": "I", "dof": "J", "c": "K",
+         "u_y": "L", "share": "M"}
+
+
+def _safe_text(x: object) -> str:
+    """Text cell content that a spreadsheet will not read as a formula."""
+    s = "" if x is None else str(x)
+    return "'" + s if s[:1] in ("=", "+", "-", "@") and not _is_number(s) else s
+
+
+def _is_number(s: str) -> bool:
+    try:
+        float(s)
+        return True
+    except ValueError:
+        return False
+
+
+def render_xlsx(data: ReportData, record) -> bytes:
+    """The workbook as bytes (``record`` supplies the budget file content: readings, correlations)."""
+    wb = Workbook()
+    ws = wb.active
+    ws.title = BUDGET_SHEET
+    bold = Font(bold=True)
+    ws["A1"] = _safe_text(data.title)
+    ws["A1"].font = Font(bold=True, size=13)
+    ws["A2"], ws["B2"] = "Model", _safe_text(data.equation)
+    ws["A3"], ws["B3"] = "Record SHA-256", data.digest
+    ws["A4"] = ("Grey cells are inputs; u(x_i), u_i(y), u_c and U are formulas. "
+                "c_i and k are the values fieldbudget computed.")
+    for j, h in enumerate(_HEADS, start=1):
+        c = ws.cell(row=FIRST_ROW - 1, column=j, value=h)
+        c.font = bold
+        c.alignment = Alignment(wrap_text=True, vertical="top")
+    grey = PatternFill("solid", fgColor="EEEEEE")
+
+    inputs = record.budget.get("inputs") or {}
+    readings_ws = None
+    readings_col = 0
+    rows = list(data.rows)
+    last = FIRST_ROW + len(rows) - 1
+    ucell = f"$I${last + 4}"  # u_c, placed below (see the summary block)
+    for i, r in enumerate(rows):
+        n = FIRST_ROW + i
+        spec = inputs.get(r.symbol, {}) or {}
+        ws.cell(row=n, column=1, value=_safe_text(r.symbol))
+        ws.cell(row=n, column=3, value=_safe_text(r.unit))
+        ws.cell(row=n, column=4, value=_safe_text(r.distribution))
+        ws.cell(row=n, column=5, value=_safe_text(r.how_stated))
+        if "readings" in spec:
+            if readings_ws is None:
+                readings_ws = wb.create_sheet("Readings")
+            readings_col += 1
+            col = get_column_letter(readings_col)
+            readings_ws.cell(row=1, column=readings_col, value=_safe_text(r.symbol)).font = bold
+            vals = [float(v) for v in spec["readings"]]
+            for k, v in enumerate(vals, start=2):
+                readings_ws.cell(row=k, column=readings_col, value=v).fill = grey
+            rng = f"Readings!${col}$2:${col}${len(vals) + 1}"
+            ws.cell(row=n, column=2, value=f"=AVERAGE({rng})")
+            ws.cell(row=n, column=6, value=f"=STDEV({rng})")
+            ws.cell(row=n, column=7, value=f"=SQRT(COUNT({rng}))")
+            ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
+        else:
+            ws.cell(row=n, column=2, value=r.estimate).fill = grey
+            kind = spec.get("distribution", "normal")
+            if "half_width" in spec and kind == "curvilinear_trapezoid":
+                ws.cell(row=n, column=6, value=float(spec["half_width"])).fill = grey
+                ws.cell(row=n, column=8, value=float(spec.get("limit_uncertainty", 0.0))).fill = grey
+                ws.cell(row=n, column=9, value=f"=SQRT(F{n}^2/3+H{n}^2/9)")
+            elif "half_width" in spec and kind in ("rectangular", "triangular", "arcsine"):
+                ws.cell(row=n, column=6, value=float(spec["half_width"])).fill = grey
+                ws.cell(row=n, column=7, value=f"=SQRT({ {'rectangular': 3, 'triangular': 6, 'arcsine': 2}[kind]})")
+                ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
+            elif "expanded" in spec:
+                ws.cell(row=n, column=6, value=float(spec["expanded"])).fill = grey
+                ws.cell(row=n, column=7, value=float(spec["k"])).fill = grey
+                ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
+            else:  # a standard uncertainty, or anything else: stated as u, divisor 1
+                stated = float(spec["u"]) if "u" in spec else r.u_x
+                ws.cell(row=n, column=6, value=stated).fill = grey
+                ws.cell(row=n, column=7, value=1).fill = grey
+                ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
+        ws.cell(row=n, column=10, value="inf" if r.dof is None or math.isinf(r.dof) else r.dof)
+        ws.cell(row=n, column=11, value=r.sensitivity).fill = grey
+        ws.cell(row=n, column=12, value=f"=ABS(K{n})*I{n}")
+        ws.cell(row=n, column=13, value=f"=L{n}^2/{ucell}^2")
+        ws.cell(row=n, column=14, value=_safe_text(r.source))
+
+    # correlation coefficients, as input cells
+    corr_first = last + 12
+    row_of = {r.symbol: FIRST_ROW + i for i, r in enumerate(rows)}
+    terms = []
+    if data.correlations:
+        ws.cell(row=corr_first - 1, column=1, value="Correlation coefficients").font = bold
+        ws.cell(row=corr_first - 1, column=2, value="input a")
+        ws.cell(row=corr_first - 1, column=3, value="input b")
+        ws.cell(row=corr_first - 1, column=4, value="r(a, b)")
+        for j, (a, b, rr) in enumerate(data.correlations):
+            n = corr_first + j
+            ws.cell(row=n, column=2, value=_safe_text(a))
+            ws.cell(row=n, column=3, value=_safe_text(b))
+            ws.cell(row=n, column=4, value=float(rr)).fill = grey
+            if a in row_of and b in row_of:
+                ia, ib = row_of[a], row_of[b]
+                terms.append(f"2*D{n}*K{ia}*I{ia}*K{ib}*I{ib}")
+
+    s = last + 2
+    labels = [
+        ("sum of squares of u_i(y)", f"=SUMSQ(L{FIRST_ROW}:L{last})"),
+        ("correlation terms, sum of 2 r c_i c_j u(x_i) u(x_j)", "=" + ("+".join(terms) if terms else "0")),
+        ("combined standard uncertainty u_c", f"=SQRT(I{s}+I{s + 1})"),
+        ("effective degrees of freedom nu_eff (fieldbudget)", "inf" if data.nu_eff is None else data.nu_eff),
+        ("coverage factor k (fieldbudget)", data.k),
+        ("expanded uncertainty U = k u_c", f"=I{s + 4}*I{s + 2}"),
+        ("u_c as computed by fieldbudget", data.u),
+        ("U as computed by fieldbudget", data.U),
+    ]
+    # u_c lands on row s + 2 == last + 4, the row the share formulas reference (ucell)
+    for j, (label, value) in enumerate(labels):
+        ws.cell(row=s + j, column=1, value=label).font = bold if j in (2, 5) else Font()
+        ws.cell(row=s + j, column=9, value=value)
+    ws.cell(row=s + 4, column=9).fill = grey
+    for col, width in zip("ABCDEFGHIJKLMN", (28, 16, 8, 16, 18, 14, 10, 10, 14, 10, 14, 14, 10, 40)):
+        ws.column_dimensions[col].width = width
+
+    info = wb.create_sheet("Record")
+    lines = [("Statement", data.statement)]
+    lines += list(data.result_lines())
+    lines += [("Warning", w) for w in data.warnings] or [("Warnings", "none")]
+    lines += [(f"Traceability: {t.what}", t.how) for t in data.trace]
+    lines += [(f"Monte Carlo: {k}", v) for k, v in data.monte_carlo]
+    lines += list(data.details)
+    lines += [(f"Change: {c} {w}", x) for c, w, x in data.changes]
+    lines += [(f"Software: {k}", v) for k, v in data.software]
+    lines += [("Record SHA-256", data.digest)]
+    for i, (k, v) in enumerate(lines, start=1):
+        info.cell(row=i, column=1, value=_safe_text(k)).font = bold
+        info.cell(row=i, column=2, value=_safe_text(v))
+    info.column_dimensions["A"].width = 40
+    info.column_dimensions["B"].width = 100
+
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
