@@ -207,7 +207,7 @@ class LarmorConversion:
 
     def __repr__(self) -> str:
         return (f"<LarmorConversion {self.quantity} = {self.value:.12g} {self.unit}, u = {self.u:.2g} {self.unit}"
-                f" ({self.nucleus}, CODATA {self.codata})>")
+                f" ({self.nucleus}, {self.reference_edition})>")
 
     def text(self) -> str:
         """One line for a terminal."""

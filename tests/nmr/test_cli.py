@@ -1,0 +1,80 @@
+"""``fieldbudget larmor`` and ``fieldbudget nmr``: output, JSON keys, errors, and the budget-file round trip."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from fieldbudget.cli import main
+
+DATA = Path(__file__).parent / "data"
+
+
+def run(capsys, *argv):
+    code = main(list(argv))
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def test_larmor_frequency_to_field(capsys):
+    code, out, _ = run(capsys, "larmor", "100", "MHz", "--json")
+    d = json.loads(out)
+    assert code == 0
+    assert round(d["field_T"], 10) == 2.3487198124  # CODATA 2022, nmr-physics notes 7.1
+    assert d["nucleus"] == "shielded-proton" and d["codata"] == 2022
+    assert d["u"] == pytest.approx(d["field_T"] * 0.00000017 / 42.57638543, rel=1e-9)
+
+
+@pytest.mark.parametrize("value, unit", [("1", "T"), ("1000", "mT"), ("10000", "G"), ("1000000", "uT")])
+def test_larmor_field_units(capsys, value, unit):
+    code, out, _ = run(capsys, "larmor", value, unit, "--nucleus", "proton", "--codata", "2018", "--json")
+    d = json.loads(out)
+    # CODATA 2018 proton gyromag. ratio in MHz/T: 42.577 478 518
+    assert d["frequency_Hz"] == pytest.approx(42.577478518e6, rel=1e-14)
+    assert d["codata"] == 2018
+
+
+def test_larmor_text(capsys):
+    code, out, _ = run(capsys, "larmor", "2", "MHz")
+    assert code == 0 and out.startswith("B = 0.0469")
+
+
+@pytest.mark.parametrize("argv, words", [
+    (("larmor", "1", "ppm"), "UNIT must be a frequency unit"),
+    (("larmor", "1", "T", "--nucleus", "muon"), "nucleus must be one of"),
+    (("larmor", "1", "T", "--codata", "1998"), "codata must be one of the CODATA editions"),
+])
+def test_larmor_user_errors_exit_2(capsys, argv, words):
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and words in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_nmr_text_and_json(capsys):
+    code, out, _ = run(capsys, "nmr", str(DATA / "low_field_47mT.json"))
+    assert code == 0 and "Model: B0 = " in out and "warning: at 0.04726 T" in out
+    code, out, _ = run(capsys, "nmr", str(DATA / "low_field_47mT.json"), "--json")
+    d = json.loads(out)
+    assert any("low enough" in w for w in d["warnings"])
+
+
+def test_nmr_budget_out_round_trip_through_evaluate(capsys, tmp_path):
+    budget = tmp_path / "budget.json"
+    code, out, _ = run(capsys, "nmr", str(DATA / "water_cylinder_1p5T.json"), "--json", "--budget-out", str(budget))
+    assert code == 0
+    nmr = json.loads(out)
+    code, out, _ = run(capsys, "evaluate", str(budget), "--json")
+    assert code == 0
+    ev = json.loads(out)
+    nmr_only = set(nmr["warnings"]) - set(ev["warnings"])
+    assert not nmr_only  # this example raises no NMR warnings
+    assert ev == nmr
+
+
+def test_nmr_bad_file_exit_2(capsys, tmp_path):
+    p = tmp_path / "m.json"
+    p.write_text(json.dumps({"frequency": {"value_Hz": 1e6, "u_Hz": 0.1}, "sample": {"shape": "cube"}}))
+    code, _, err = run(capsys, "nmr", str(p))
+    assert code == 2 and "at #/sample/shape" in err
