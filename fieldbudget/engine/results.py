@@ -113,8 +113,12 @@ class BudgetResult:
         unit = f" {m.unit}" if m.unit else ""
         p = exact_probability(self.coverage_probability) * 100
         ptext = f"{p:.2f}".rstrip("0").rstrip(".")
-        u_text = round_result(self.estimate, self.standard_uncertainty, "gum", 2).uncertainty_text
+        uc = self.standard_uncertainty
+        u_text = (f"{uc:.2g}" if uc and (abs(uc) < 1e-3 or abs(uc) >= 1e6)
+                  else round_result(self.estimate, uc, "gum", 2).uncertainty_text)
         head = f"{m.symbol} = ({r.value_text} ± {r.uncertainty_text}){unit}"
+        if self.estimate and r.uncertainty:
+            head += f" (relative expanded uncertainty {r.uncertainty / abs(self.estimate):.2g})"
         if self.coverage_policy == "fixed":
             how = (f"by the coverage factor k = {self.coverage_factor:.2f} that the laboratory's policy fixes; for a "
                    f"normal distribution this corresponds to a coverage probability of about {ptext} %")

@@ -55,7 +55,7 @@ def test_result_forms(power_budget):
     d = r.to_dict()
     json.dumps(d)  # plain types only
     assert d["nu_eff"] is None and d["k"] == 2.0 and [c["symbol"] for c in d["contributions"]] == ["V", "R"]
-    assert d["statement"].startswith("P = (1.0000 ± 0.0046) W.")
+    assert d["statement"].startswith("P = (1.0000 ± 0.0046) W (relative expanded uncertainty 0.0046).")
     cells = _Cells()
     cells.feed(r._repr_html_())
     assert "u(x_i)" in cells.cells and "voltmeter cert. FB-V-001" in cells.cells
