@@ -14,9 +14,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from fieldbudget.engine import Budget, InputQuantity, Measurand, Model
-from fieldbudget.engine import montecarlo
-from fieldbudget.engine.montecarlo import MonteCarloResult, MonteCarloVectorResult, coverage_intervals, run
+from fieldbudget.engine import Budget, InputQuantity, Measurand, Model, montecarlo
+from fieldbudget.engine.montecarlo import (
+    MonteCarloResult,
+    MonteCarloVectorResult,
+    coverage_intervals,
+    run,
+)
 from fieldbudget.errors import InputError, ModelEvaluationError, MonteCarloCancelled
 
 Q = InputQuantity

@@ -24,8 +24,9 @@ from fieldbudget.engine import (
     Rectangular,
     Triangular,
     TypeA,
+    montecarlo,
+    sampling,
 )
-from fieldbudget.engine import montecarlo, sampling
 from fieldbudget.errors import InputError
 
 N = 200_000
@@ -78,7 +79,7 @@ def test_curvilinear_trapezoid_cdf():
     dist = CurvilinearTrapezoid(half_width=a, limit_uncertainty=d)
 
     def cdf_scalar(y: float) -> float:
-        f = lambda w: min(1.0, max(0.0, (y - x0 + w) / (2 * w)))  # noqa: E731
+        f = lambda w: min(1.0, max(0.0, (y - x0 + w) / (2 * w)))
         return integrate.quad(f, a - d, a + d, points=[abs(y - x0)], limit=200)[0] / (2 * d)
 
     x = sampling.draw(dist, x0, _rng(11), 50_000)
