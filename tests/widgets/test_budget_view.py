@@ -1,0 +1,97 @@
+"""The live budget view: table columns, variance shares, the statement, no budget yet."""
+
+import math
+import re
+from html.parser import HTMLParser
+
+import pytest
+
+from fieldbudget.drafts import BudgetDraft
+from fieldbudget.widgets import BudgetView
+from fieldbudget.widgets.budget_view import format_u
+
+
+class _Cells(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.rows, self._row, self._in = [], None, False
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "tr":
+            self._row = []
+        elif tag in ("td", "th"):
+            self._in = True
+            self._row.append("")
+
+    def handle_endtag(self, tag):
+        if tag == "tr":
+            self.rows.append(self._row)
+        elif tag in ("td", "th"):
+            self._in = False
+
+    def handle_data(self, data):
+        if self._in:
+            self._row[-1] += data
+
+
+def cells(html):
+    p = _Cells()
+    p.feed(html)
+    return p.rows
+
+
+@pytest.fixture
+def draft():
+    # y = a * b: c_a = b = 2, c_b = a = 1 (JCGM 100:2008 5.1.3, eq. (11a))
+    return BudgetDraft(model="a * b", measurand="P", measurand_unit="W", rows=[
+        dict(symbol="a", estimate="1", unit="A", uncertainty="0.01"),
+        dict(symbol="b", estimate="2", unit="V", distribution="rectangular", meaning="half-width",
+             uncertainty="0.03")])
+
+
+def test_table_has_sensitivity_contribution_and_share(draft):
+    v = BudgetView(draft)
+    head, a, b, foot = cells(v.table.value)
+    assert head[:3] == ["input", "estimate x\u1d62", "u(x\u1d62)"] and "share of variance" in head
+    ua, ub = 0.01, 0.03 / math.sqrt(3)  # GUM 4.3.7
+    ca, cb = 2.0, 1.0
+    uc = math.hypot(ca * ua, cb * ub)
+    assert a[0] == "a" and a[5] == "2" and a[6] == format_u(ca * ua, "W")
+    assert b[5] == "1" and b[6] == format_u(cb * ub, "W")
+    assert a[7] == f"{100 * (ca * ua / uc) ** 2:.1f} %"
+    assert foot[1] == format_u(uc, "W")
+
+
+def test_bars_and_summary(draft):
+    v = BudgetView(draft)
+    assert v.chart.value.count('class="fb-bar"') == 2
+    assert "U = " in v.summary.value and "P = (" in v.summary.value  # the statement
+
+
+def test_chart_can_be_hidden(draft):
+    assert BudgetView(draft, chart=False).chart.value == ""
+
+
+def test_no_budget_yet_says_why():
+    d = BudgetDraft(model="a", rows=[dict(symbol="a", uncertainty="-1")])
+    v = BudgetView(d)
+    assert "no budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
+
+
+def test_view_follows_the_draft_until_closed(draft):
+    v = BudgetView(draft)
+    draft.set(0, "uncertainty", "0.02")
+    assert format_u(draft.result.standard_uncertainty, "W") in v.table.value
+    old = v.table.value
+    v.close()
+    draft.set(0, "uncertainty", "0.05")
+    assert v.table.value == old
+
+
+@pytest.mark.parametrize("x, text", [(0.5, "0.500 V"), (1.2649e-8, "1.26e-08 V"), (0.0, "0 V"), (None, "")])
+def test_format_u(x, text):
+    assert format_u(x, "V" if x is not None else "") == text
+
+
+def test_uc_cell_is_findable_by_class(draft):
+    assert re.search(r'<td class="fb-uc">[^<]+</td>', BudgetView(draft).table.value)
