@@ -243,16 +243,22 @@ class CMCTable:
 
 def _envelope(b_abs: np.ndarray, big_u: np.ndarray, lo: float, hi: float) -> tuple[float, float]:
     """Least upper envelope ``a + b B`` (a, b >= 0) of the points, by linear programming."""
+    # Scale to order one first: the solver's feasibility tolerance (~1e-7) is the size of a CMC in tesla.
+    us = float(big_u.max())
+    bs = float(max(hi, b_abs.max()))
     res = scipy.optimize.linprog(
-        c=[1.0, 0.5 * (lo + hi)],
-        A_ub=np.column_stack([-np.ones_like(b_abs), -b_abs]),
-        b_ub=-big_u,
+        c=[1.0, 0.5 * (lo + hi) / bs],
+        A_ub=np.column_stack([-np.ones_like(b_abs), -b_abs / bs]),
+        b_ub=-big_u / us,
         bounds=[(0, None), (0, None)],
         method="highs",
     )
     if not res.success:  # cannot happen for a, b >= 0 with finite points; keep the message if it does
         raise InputError("points", len(b_abs), f"points an envelope can be fitted to ({res.message})", _WHERE)
-    return float(res.x[0]), float(res.x[1])
+    a, b = float(res.x[0]) * us, float(res.x[1]) * us / bs
+    # the solver may leave a point short by its tolerance: lift a so the envelope holds exactly
+    a += max(0.0, float(np.max(big_u - (a + b * b_abs))))
+    return a, b
 
 
 def build_cmc_table(
