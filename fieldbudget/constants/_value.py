@@ -49,11 +49,10 @@ def concise(value: float, uncertainty: float) -> str:
     if digits >= 100:  # 9.96 -> 10(0): one place coarser
         q += 1
         digits = du.scaleb(-q).to_integral_value(ROUND_HALF_UP)
+    if q - shift > 0:  # u's digits lie left of the units place: scale so they end at the first decimal
+        scientific, shift = True, q + 1
     mantissa = dv.scaleb(-shift).quantize(Decimal(1).scaleb(q - shift), rounding=ROUND_HALF_UP)
-    if q - shift > 0:  # uncertainty larger than the units place: no decimal point to hang digits on
-        text = f"{mantissa:f}({digits * Decimal(10) ** (q - shift):f})"
-    else:
-        text = f"{mantissa:f}({digits:f})"
+    text = f"{mantissa:f}({digits:f})"
     return f"{text}e{shift}" if scientific else text
 
 

@@ -288,6 +288,8 @@ def test_html_escapes_text():
     (6.62607015e-34, 0.0, "6.62607015e-34"),
     (9192631770.0, 0.0, "9192631770"),
     (1.5, 0.996, "1.5(10)"),
+    (199.0, 99.5, "2.0(10)e2"),       # u's digits left of the units place: scaled, not '200(100)'
+    (12345.0, 12.0, "12345(12)"),
 ])
 def test_concise(value, u, text):
     assert concise(value, u) == text
