@@ -78,3 +78,10 @@ def test_nmr_bad_file_exit_2(capsys, tmp_path):
     p.write_text(json.dumps({"frequency": {"value_Hz": 1e6, "u_Hz": 0.1}, "sample": {"shape": "cube"}}))
     code, _, err = run(capsys, "nmr", str(p))
     assert code == 2 and "at #/sample/shape" in err
+
+
+def test_documented_example_is_the_test_file():
+    # docs/nmr-measurement-file.md shows tests/nmr/data/water_cylinder_1p5T.json in full; keep them equal
+    doc = (Path(__file__).parents[2] / "docs" / "nmr-measurement-file.md").read_text(encoding="utf-8")
+    block = doc.split("## A full example", 1)[1].split("```json", 1)[1].split("```", 1)[0]
+    assert json.loads(block) == json.loads((DATA / "water_cylinder_1p5T.json").read_text(encoding="utf-8"))
