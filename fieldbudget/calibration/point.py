@@ -2,11 +2,11 @@
 
 At calibration point i the error of the instrument under calibration is
 
-    E_i = (R_i - z_off + dres_i + drev_i) / (1 + a_temp * dT_i) - (B_ref,i + G_i * dz_pos) * cos(theta_i)
+    E_i = (R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i) - (B_ref,i + G_i * dz_pos) * cos(theta_i)
 
 and, when asked for, the correction factor
 
-    K_i = (B_ref,i + G_i * dz_pos) * cos(theta_i) / ((R_i - z_off + dres_i + drev_i) / (1 + a_temp * dT_i))
+    K_i = (B_ref,i + G_i * dz_pos) * cos(theta_i) / ((R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i))
 
 with (each term appears in the model only when it is given):
 
@@ -14,7 +14,7 @@ with (each term appears in the model only when it is given):
   with readings in the reversed field ``R_i = (mean(R+) - mean(R-)) / 2``, which
   cancels the zero offset (``common practice`` for Hall probes), and ``drev_i``
   is the reversal asymmetry of the field (0 +- u);
-* ``z_off``: zero offset read in a zero-field chamber, shared by all points
+* ``R_zero``: zero offset read in a zero-field chamber, shared by all points
   (used only without reversal);
 * ``dres_i``: resolution, rectangular with half-width half a digit
   (JCGM 100:2008 F.2.2.1);
@@ -73,7 +73,7 @@ __all__ = ["CalibrationPoint", "CalibrationSet", "CalibrationResult", "PointResu
 
 PROPAGATIONS = ("auto", "gum", "monte carlo")
 _WHERE = "calibration"
-_SHARED_OWN = ("z_off", "a_temp", "dz_pos", "theta")
+_SHARED_OWN = ("R_zero", "a_temp", "dz_pos", "theta")
 
 
 def _num(name: str, v: object, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
@@ -191,19 +191,24 @@ class CalibrationPoint:
         return float(np.mean(self.readings_t))
 
 
-def _reference_parts(ref: object, where: str) -> tuple[Budget | None, BudgetResult | None]:
-    """(budget, result) behind a reference given as Budget, BudgetResult or an NMR result."""
+def _reference_parts(ref: object, where: str) -> tuple[Budget | None, BudgetResult | None, tuple[str, ...]]:
+    """(budget, result, warnings) behind a reference given as Budget, BudgetResult or an NMR result.
+
+    An NMR result (``fieldbudget.nmr.NMRResult``) is merged through its ``budget``, so its inputs can be
+    shared between points; its physics warnings are passed on.
+    """
     if isinstance(ref, Budget):
-        return ref, None
+        return ref, None, ()
     if isinstance(ref, BudgetResult):
-        return None, ref
-    for attr in ("result", "budget_result", "gum"):
-        r = getattr(ref, attr, None)
-        if isinstance(r, BudgetResult):
-            return None, r
+        return None, ref, ()
+    notes = tuple(getattr(ref, "nmr_warnings", ()) or ())
     b = getattr(ref, "budget", None)
     if isinstance(b, Budget):
-        return b, None
+        return b, None, notes
+    for attr in ("result", "budget_result"):
+        r = getattr(ref, attr, None)
+        if isinstance(r, BudgetResult):
+            return None, r, notes
     raise InputError("reference", type(ref).__name__, "a Budget, a BudgetResult or an NMR result of the reference "
                      "field", where)
 
@@ -312,7 +317,7 @@ class CalibrationSet:
 
         if self.u_zero_offset_t or self.zero_offset_t:
             if any(not p.reversed_readings_t for p in self.points):
-                add(InputQuantity("z_off", self.zero_offset_t, Normal(u=self.u_zero_offset_t), unit="T",
+                add(InputQuantity("R_zero", self.zero_offset_t, Normal(u=self.u_zero_offset_t), unit="T",
                                   source="zero-field chamber reading", description="zero offset of the instrument"))
         if self.u_temperature_coefficient_per_k or self.temperature_coefficient_per_k:
             add(InputQuantity("a_temp", self.temperature_coefficient_per_k,
@@ -328,7 +333,8 @@ class CalibrationSet:
 
         for i, p in enumerate(self.points, start=1):
             pw = f"calibration point {p.name!r}"
-            rb, rr = _reference_parts(p.reference, pw)
+            rb, rr, ref_notes = _reference_parts(p.reference, pw)
+            notes += [f"point {p.name}, reference: {w}" for w in ref_notes]
             if rb is not None and not rb.model.is_expression:
                 rr = evaluate(rb)
                 rb = None
@@ -390,8 +396,8 @@ class CalibrationSet:
             else:
                 add(_reading_input(f"R_{i}", p.readings_t, p, "readings"))
                 ind = f"R_{i}"
-                if "z_off" in inputs:
-                    ind += " - z_off"
+                if "R_zero" in inputs:
+                    ind += " - R_zero"
             add(InputQuantity(f"dres_{i}", 0.0, Rectangular(half_width=res / 2), unit="T",
                               source=f"display resolution {res:g} T, half a digit",
                               description="resolution of the indication"))

@@ -110,7 +110,7 @@ def test_reversal_cancels_the_zero_offset():
                          reversed_readings_t=[-b + z + 1e-6, -b + z - 1e-6], u_reversal_t=2e-6)
     cs = CalibrationSet([p], resolution_t=1e-6, zero_offset_t=z, u_zero_offset_t=1e-6)
     assert p.indication == pytest.approx(b)
-    assert "z_off" not in cs.budget.symbols and {"Rp_1", "Rn_1", "drev_1"} <= set(cs.budget.symbols)
+    assert "R_zero" not in cs.budget.symbols and {"Rp_1", "Rn_1", "drev_1"} <= set(cs.budget.symbols)
     r = cs.evaluate("gum")
     assert r.points[0].error == pytest.approx(0.0, abs=1e-12)
 
@@ -216,3 +216,32 @@ def test_forms_are_plain_and_escaped():
     assert "<s/n" not in res._repr_html_()
     with pytest.raises(Exception):
         res.points[0].error = 0.0
+
+
+# -- with the NMR layer's own measurement ---------------------------------------------------------
+def _nmr_result(freq_hz):
+    from fieldbudget.nmr import NMRMeasurement
+
+    # invented proton measurement; timebase and probe perturbation are the same at every point
+    d = {"nucleus": "shielded-proton", "codata": 2022,
+         "frequency": {"readings_Hz": [freq_hz * (1 + k * 1e-9) for k in (-1, 0, 1, 0)]},
+         "timebase": {"offset": 1e-10, "u": 5e-9},
+         "probe_perturbation": {"value": 0.0, "u": 2e-8}}
+    return NMRMeasurement.from_dict(d).evaluate()
+
+
+def test_nmr_results_are_merged_through_their_budgets():
+    refs = [_nmr_result(f) for f in (21.3e6, 42.6e6, 63.9e6)]
+    fields = [r.estimate for r in refs]
+    mk = [CalibrationPoint(r, readings_t=[b * (1 + 3e-4), b * (1 + 3e-4) + 2e-8], pooled_sd_t=1e-9)
+          for r, b in zip(refs, fields)]
+    carried = [CalibrationPoint(r.result, readings_t=p.readings_t, pooled_sd_t=1e-9) for r, p in zip(refs, mk)]
+    merged = CalibrationSet(mk, resolution_t=1e-9, shared=("y_tb", "d_probe"))
+    syms = merged.budget.symbols
+    assert syms.count("y_tb") == 1 and syms.count("d_probe") == 1 and syms.count("gamma_p_sh") == 1
+    assert "f_read_r2" in syms
+    a = merged.evaluate("gum")
+    b = CalibrationSet(carried, resolution_t=1e-9, shared=("y_tb", "d_probe")).evaluate("gum")
+    np.testing.assert_allclose(a.covariance, b.covariance, rtol=1e-6)
+    assert a.correlation[0, 2] > 0.5  # the shared timebase and probe terms dominate here
+    assert [p.reference for p in a.points] == pytest.approx(fields, rel=1e-15)
