@@ -60,6 +60,7 @@ __all__ = [
     "save_record",
     "load_record",
     "record_from_dict",
+    "budget_content",
     "verify_record",
     "compare_editions",
     "canonical_bytes",
@@ -81,7 +82,7 @@ MC_TOLERANCE_FACTOR = 4.0
 
 _TOP_KEYS = (
     "schema_version", "kind", "revision", "previous_digest", "created_utc", "operator", "remarks",
-    "procedure", "codata_edition", "software", "budget", "settings", "results", "changes", "digest",
+    "procedure", "codata_edition", "software", "budget", "input_order", "settings", "results", "changes", "digest",
 )
 
 
@@ -187,6 +188,7 @@ class Record:
 
     budget: Mapping
     gum: Mapping
+    input_order: tuple = ()
     monte_carlo: Mapping | None = None
     validation: Mapping | None = None
     monte_carlo_settings: Mapping | None = None
@@ -204,7 +206,7 @@ class Record:
     digest: str = ""
 
     def __post_init__(self) -> None:
-        for name in ("budget", "gum", "monte_carlo", "validation", "monte_carlo_settings", "software",
+        for name in ("budget", "gum", "input_order", "monte_carlo", "validation", "monte_carlo_settings", "software",
                      "procedure", "changes", "extra"):
             value = getattr(self, name)
             if value is not None:
@@ -228,6 +230,7 @@ class Record:
             "codata_edition": self.codata_edition,
             "software": _thaw(self.software),
             "budget": _thaw(self.budget),
+            "input_order": _thaw(self.input_order),
             "settings": {"monte_carlo": _thaw(self.monte_carlo_settings)},
             "results": {
                 "gum": _thaw(self.gum),
@@ -286,6 +289,22 @@ class Record:
         return html_table(("", ""), rows, caption="fieldbudget record", css_class="fb-table fb-record")
 
 
+def budget_content(record: Record) -> dict:
+    """The record's budget file content with the inputs in their recorded order.
+
+    JSON objects are unordered (and the record file sorts its keys), but the
+    order of the inputs fixes the order of the Monte Carlo draws and of the
+    sums, so the record keeps it in ``input_order`` (covered by the digest).
+    """
+    content = _thaw(record.budget)
+    inputs = content.get("inputs")
+    if isinstance(inputs, dict) and record.input_order:
+        order = [s for s in record.input_order if s in inputs]
+        order += [s for s in inputs if s not in order]
+        content["inputs"] = {s: inputs[s] for s in order}
+    return content
+
+
 def record_from_dict(document: Mapping, *, where: str = "record") -> Record:
     """Build a :class:`Record` from a parsed document (already schema-checked)."""
     d = dict(document)
@@ -295,6 +314,7 @@ def record_from_dict(document: Mapping, *, where: str = "record") -> Record:
     return Record(
         budget=d["budget"],
         gum=results["gum"],
+        input_order=tuple(d.get("input_order") or ()),
         monte_carlo=results.get("monte_carlo"),
         validation=results.get("validation"),
         monte_carlo_settings=settings.get("monte_carlo"),
@@ -485,6 +505,10 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     b = _as_budget(budget)
     content = _jsonable(b.to_dict(), "#/budget")
     gum = evaluate(b)
+    if not hasattr(gum, "measurand"):
+        raise InputError("budget", f"{len(getattr(gum, 'results', ()))} measurands",
+                         "a budget with one measurand (records of several measurands are not supported yet)",
+                         "make_record")
     gum_d = _jsonable(gum.to_dict(), "#/results/gum")
 
     mc_d = val_d = mc_settings = None
@@ -517,7 +541,7 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         changes = budget_changes(previous.budget, content)
 
     rec = Record(
-        budget=content, gum=gum_d, monte_carlo=mc_d, validation=val_d, monte_carlo_settings=mc_settings,
+        budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d, monte_carlo_settings=mc_settings,
         codata_edition=_edition_of(content), software=software_versions(), procedure=_procedure_dict(procedure),
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
         previous_digest=prev_digest, changes=tuple(changes),
@@ -790,7 +814,7 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
     from ..engine import Budget, evaluate
 
     try:
-        budget = Budget.from_dict(_thaw(record.budget), where="record budget")
+        budget = Budget.from_dict(budget_content(record), where="record budget")
     except FieldbudgetError as err:
         checks.append(Check("budget", "fail", f"the recorded budget no longer loads: {err}"))
         return VerifyResult(tuple(checks), where)
@@ -925,7 +949,7 @@ def compare_editions(record: Record, edition: int) -> EditionComparison:
         raise InputError("edition", edition, f"one of {', '.join(map(str, known))}", "compare") from None
     if ed not in known or isinstance(edition, bool):
         raise InputError("edition", edition, f"one of {', '.join(map(str, known))}", "compare")
-    budget = Budget.from_dict(_thaw(record.budget), where="record budget")
+    budget = Budget.from_dict(budget_content(record), where="record budget")
     other = rebase(budget, ed)
     r0, r1 = evaluate(budget), evaluate(other)
     d0, d1 = r0.to_dict(), r1.to_dict()

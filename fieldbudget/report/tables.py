@@ -180,16 +180,35 @@ def _float(x: object) -> float | None:
         return None
 
 
+_TIMEBASE_HINTS = ("timebase", "time base", "frequency standard", "oscillator", "ocxo", "rubidium", "gps")
+_META_SKIP = {"codata", "codata_edition", "kind", "measurement_format", "id", "title", "nucleus",
+              "reference_condition"}
+
+
+def _is_timebase(sym: str, spec: Mapping) -> bool:
+    text = f"{sym} {spec.get('description', '')} {spec.get('source', '')}".lower()
+    return sym.startswith("y_tb") or sym.startswith("y_age") or any(h in text for h in _TIMEBASE_HINTS[:3])
+
+
 def _trace_chain(budget: Mapping, gum: Mapping, edition: int | None, equation: str, symbol: str) -> list[TraceLink]:
-    """The traceability chain from what the budget carries (NMR metadata where present)."""
+    """The traceability chain from what the budget carries.
+
+    For an NMR budget (metadata from ``fieldbudget.nmr``): the field from the
+    resonance frequency, the frequency through the frequency standard (its
+    source names the calibration certificate), and the gyromagnetic ratio
+    through its CODATA edition.  Any other budget: each input's source.
+    """
     md = budget.get("metadata") if isinstance(budget.get("metadata"), Mapping) else {}
     inputs = budget.get("inputs") if isinstance(budget.get("inputs"), Mapping) else {}
     links = [TraceLink(symbol, f"from the model {equation}")]
-    # NMR budgets: the frequency, its time base and certificate; the reference ratio and its edition.
-    freq_std = next((md[k] for k in ("frequency_standard", "frequency_reference", "time_base") if md.get(k)), None)
-    cert = next((md[k] for k in ("frequency_standard_certificate", "certificate", "frequency_certificate")
-                 if md.get(k)), None)
-    nucleus = next((md[k] for k in ("nucleus", "probe_nucleus", "probe") if md.get(k)), None)
+    nucleus = md.get("nucleus")
+    condition = md.get("reference_condition")
+    timebase = [(s, q) for s, q in inputs.items() if isinstance(q, Mapping) and _is_timebase(s, q)]
+    tb_text = "; ".join(_text(q.get("source")) for _, q in timebase if q.get("source"))
+    cert = next((md[k] for k in ("frequency_standard_certificate", "certificate") if md.get(k)), None)
+    std = next((md[k] for k in ("frequency_standard", "time_base") if md.get(k)), None)
+    if std or cert:
+        tb_text = "; ".join(t for t in (tb_text, _text(std), f"certificate {cert}" if cert else "") if t)
     for sym, spec in inputs.items():
         if not isinstance(spec, Mapping):
             continue
@@ -198,24 +217,29 @@ def _trace_chain(budget: Mapping, gum: Mapping, edition: int | None, equation: s
         ref = spec.get("reference")
         if ref:
             ed = f"CODATA {edition}" if edition is not None else "CODATA"
-            what = f"{sym} ({nucleus})" if nucleus else sym
-            links.append(TraceLink(what, f"{ed} recommended value '{ref}' = {fmt(_float(spec.get('value')), 12)} "
-                                         f"{unit}".rstrip()))
-        elif unit.lower() in ("hz", "khz", "mhz") and (freq_std or cert):
-            chain = f"measured frequency ({src})" if src else "measured frequency"
-            if freq_std:
-                chain += f"; time base {freq_std}"
-            if cert:
-                chain += f", calibration certificate {cert}"
-            links.append(TraceLink(sym, chain))
+            extra = ", ".join(_text(x) for x in (nucleus, condition) if x)
+            links.append(TraceLink(sym, f"{ed} recommended value '{ref}' = {fmt(_float(spec.get('value')), 12)} "
+                                        f"{unit}".rstrip() + (f" ({extra})" if extra else "")))
+        elif (sym, spec) in timebase:
+            links.append(TraceLink(sym, f"frequency standard: {src}" if src else "frequency standard"))
+        elif unit.lower() in ("hz", "khz", "mhz") and (_float(spec.get("value")) or "readings" in spec):
+            how = f"measured frequency ({src})" if src else "measured frequency"
+            if tb_text:
+                how += f", traceable to the SI second through the frequency standard: {tb_text}"
+            links.append(TraceLink(sym, how))
         elif src:
             links.append(TraceLink(sym, src))
+    flat: list[tuple[str, object]] = []
     for key in sorted(md):
-        if key in ("frequency_standard", "frequency_reference", "time_base", "frequency_standard_certificate",
-                   "certificate", "frequency_certificate", "nucleus", "probe_nucleus", "probe", "codata",
-                   "codata_edition"):
-            continue
         v = md[key]
+        if key in _META_SKIP or key in ("frequency_standard", "time_base", "frequency_standard_certificate",
+                                        "certificate"):
+            continue
+        if isinstance(v, Mapping):
+            flat.extend((f"{key} {k}", x) for k, x in sorted(v.items()))
+        else:
+            flat.append((key, v))
+    for key, v in flat:
         if isinstance(v, (str, int, float)) and not isinstance(v, bool):
             links.append(TraceLink(key.replace("_", " "), str(v)))
     return links
