@@ -240,6 +240,9 @@ class NMRMeasurement:
         """The description as plain JSON types (what ``from_dict`` takes back)."""
         return _plain(self.description)
 
+    def __hash__(self) -> int:
+        return hash(json.dumps(self.to_dict(), sort_keys=True))
+
     # -- derived ------------------------------------------------------------------
     @property
     def nucleus(self) -> Nucleus:

@@ -336,3 +336,21 @@ def test_bad_json_file(tmp_path):
     assert "is not valid JSON" in str(info.value)
     with pytest.raises(BudgetFileError):
         NMRMeasurement.from_file(tmp_path / "missing.json")
+
+
+def test_measurement_is_immutable_and_hashable():
+    a = NMRMeasurement.from_file(DATA / "low_field_47mT.json")
+    b = NMRMeasurement.from_file(DATA / "low_field_47mT.json")
+    assert a == b and hash(a) == hash(b)
+    with pytest.raises(TypeError):
+        a.description["nucleus"] = "proton"
+
+
+def test_monte_carlo_validates_the_example_budget():
+    # JCGM 101:2008 clause 8: GUM interval validated by Monte Carlo (engine's validation, fixed seed)
+    from fieldbudget.engine import montecarlo, validation
+
+    budget = NMRMeasurement.from_file(DATA / "water_cylinder_1p5T.json").to_budget()
+    mc = montecarlo.run(budget, trials=100_000, seed=20261202)
+    check = validation.validate(evaluate(budget), mc)
+    assert check.to_dict().get("validated", check.to_dict().get("passed"))
