@@ -239,6 +239,31 @@ class ConformityResult:
                                    + f"<p>{_display.escape(self.statement)}</p>")
 
 
+def _from_histogram(tolerance: Tolerance, result: object) -> tuple[float, str]:
+    """p_c from a Monte Carlo result's histogram, linear inside the bins cut by a limit."""
+    mc = getattr(result, "monte_carlo", None) or result
+    hist = getattr(mc, "histogram", None)
+    trials = getattr(mc, "trials", None)
+    if hist is None or not trials:
+        raise InputError("result", type(result).__name__, "a Monte Carlo result (with a histogram) for "
+                         "distribution='histogram'", _WHERE)
+    counts = np.asarray(hist[0], dtype=float)
+    edges = np.asarray(hist[1], dtype=float)
+    lo = edges[0] if tolerance.lower is None else tolerance.lower
+    hi = edges[-1] if tolerance.upper is None else tolerance.upper
+    left, right = np.clip(lo, edges[:-1], edges[1:]), np.clip(hi, edges[:-1], edges[1:])
+    frac = np.clip(right - left, 0.0, None) / np.diff(edges)
+    inside = float(np.sum(counts * frac))
+    # the histogram leaves out the extreme tails (half on each side); count a tail as inside when the
+    # tolerance reaches past that end of the histogram
+    clipped = trials - float(counts.sum())
+    if tolerance.lower is None or tolerance.lower <= edges[0]:
+        inside += clipped / 2
+    if tolerance.upper is None or tolerance.upper >= edges[-1]:
+        inside += clipped / 2
+    return min(1.0, inside / trials), f"Monte Carlo histogram, {trials} trials"
+
+
 def _from_result(result: object) -> tuple[float, float, float, float | None]:
     """(estimate, u, k, dof) from an engine BudgetResult-like object."""
     try:
@@ -280,9 +305,11 @@ def assess_conformity(
     guard_band : float, optional
         ``w`` in the tolerance's unit, >= 0; for guarded acceptance it defaults
         to the expanded uncertainty ``U`` (``w = U``, JCGM 106:2012, 8.3.2).
-    distribution : ``"normal"``, ``"t"`` or ``"samples"``
+    distribution : ``"normal"``, ``"t"``, ``"samples"`` or ``"histogram"``
         The PDF behind ``p_c``: normal (GUM), t with ``dof`` (or the
-        result's ``effective_dof``), or Monte Carlo ``samples``.
+        result's ``effective_dof``), Monte Carlo ``samples``, or the
+        histogram of a Monte Carlo ``result`` (or of a point result's
+        ``monte_carlo``).
     """
     if result is not None:
         y, u, k, nu = _from_result(result)
@@ -327,6 +354,11 @@ def assess_conformity(
         else:
             pc = probability_of_conformity(tolerance, y, u, dof=dof)
             dist_text = f"t-distribution, {dof:.1f} degrees of freedom"
+    elif distribution == "histogram":
+        pc, txt = _from_histogram(tolerance, result)
+        dist_text = txt
+        notes.append("probability of conformity from the Monte Carlo histogram (100 bins, extreme tails "
+                     "clipped): good to about a bin's share; pass the samples for more")
     elif distribution == "samples":
         if samples is None:
             raise InputError("samples", None, "Monte Carlo samples when distribution='samples'", _WHERE)
@@ -335,7 +367,7 @@ def assess_conformity(
         se = math.sqrt(max(pc * (1 - pc), 1.0 / n) / n)
         dist_text = f"Monte Carlo, {n} samples (standard error {se:.1g})"
     else:
-        raise InputError("distribution", distribution, "one of 'normal', 't', 'samples'", _WHERE)
+        raise InputError("distribution", distribution, "one of 'normal', 't', 'samples', 'histogram'", _WHERE)
     accepted = (a_lo is None or y >= a_lo) and (a_hi is None or y <= a_hi)
     if accepted and pc < 0.5:
         notes.append("accepted although the probability of conformity is below 50 %")

@@ -206,7 +206,7 @@ class CurveFit:
         """The curve's value at ``x`` (no uncertainty, no range check)."""
         return float(_design(np.array([x]), self.x0, self.degree)[0] @ self.coefficient_array)
 
-    def predict(self, x: float, *, u_extra: float = 0.0, stacklevel: int = 2) -> CurvePrediction:
+    def predict(self, x: float, *, u_extra: float = 0.0, _stacklevel: int = 2) -> CurvePrediction:
         """Value and standard uncertainty of the curve at ``x``.
 
         Parameters
@@ -235,7 +235,7 @@ class CurveFit:
                    f"[{_display.fmt(lo)}, {_display.fmt(hi)}] {self.x_unit}: the value is an extrapolation "
                    f"of the fitted curve and its uncertainty assumes the curve's form holds there")
             notes.append(msg)
-            warnings.warn(msg, CalibrationRangeWarning, stacklevel=stacklevel)
+            warnings.warn(msg, CalibrationRangeWarning, stacklevel=_stacklevel)
         dof = None if self.method != "ordinary" else float(self.dof)
         return CurvePrediction(
             x=float(x), value=value, standard_uncertainty=math.hypot(u_curve, u_extra),

@@ -69,9 +69,10 @@ from fieldbudget.errors import InputError
 from .curve import CalibrationRangeWarning, CurveFit, fit_polynomial
 
 __all__ = ["CalibrationPoint", "CalibrationSet", "CalibrationResult", "PointResult", "CalibrationCurve",
-           "FieldPrediction", "PROPAGATIONS"]
+           "FieldPrediction", "PROPAGATIONS", "CURVE_FORMS"]
 
 PROPAGATIONS = ("auto", "gum", "monte carlo")
+CURVE_FORMS = ("error", "reading")
 _WHERE = "calibration"
 _SHARED_OWN = ("R_zero", "a_temp", "dz_pos", "theta")
 
@@ -604,6 +605,27 @@ class PointResult:
     gum_correction_factor: BudgetResult | None = field(default=None, repr=False)
     warnings: tuple[str, ...] = ()
 
+    # result-like view for conformity and CMC (estimate, standard_uncertainty, coverage_factor, ...)
+    @property
+    def estimate(self) -> float:
+        return self.error
+
+    @property
+    def standard_uncertainty(self) -> float:
+        return self.u_error
+
+    @property
+    def coverage_factor(self) -> float:
+        return self.expanded_uncertainty / self.u_error if self.u_error > 0 else self.gum.coverage_factor
+
+    @property
+    def effective_dof(self) -> float:
+        return self.gum.effective_dof
+
+    @property
+    def coverage_probability(self) -> float:
+        return self.gum.coverage_probability
+
     @property
     def expanded_uncertainty(self) -> float:
         """k u(E) with the GUM coverage factor of the point (or the Monte Carlo interval's half-width)."""
@@ -666,18 +688,30 @@ class CalibrationResult:
     def errors(self) -> tuple[float, ...]:
         return tuple(p.error for p in self.points)
 
-    def fit(self, degree: int = 1, *, x0: float | str = 0.0, correlated: bool = True,
+    def fit(self, degree: int = 1, *, form: str = "error", x0: float | str = 0.0, correlated: bool = True,
             scale: str = "never") -> CalibrationCurve:
-        """Fit the error E against the indication by generalised least squares with the points' covariance.
+        """Fit a calibration curve over the points by generalised least squares with their covariance.
 
-        ``correlated=False`` keeps only the variances (weighted least squares), to show what the
-        correlation between points changes.
+        ``form="error"``: the error E as a polynomial in the indication (the
+        form of JCGM 100:2008 H.3, correction against the instrument's
+        reading); ``form="reading"``: the indication as a polynomial in the
+        reference field, ``R = B_ref + E``, inverted for a later reading.  In
+        both the points' x is taken as exact and the whole uncertainty of each
+        point (reference included) is in the covariance of its error.
+        ``correlated=False`` keeps only the variances (weighted least
+        squares), to show what the correlation between points changes.
         """
+        if form not in CURVE_FORMS:
+            raise InputError("form", form, f"one of {', '.join(map(repr, CURVE_FORMS))}", _WHERE)
         cov = self.covariance
         kw = {"covariance": cov} if correlated else {"u_y": np.sqrt(np.diag(cov))}
-        fit = fit_polynomial(self.indications, self.errors, degree, x0=x0, scale=scale, x_unit="T", y_unit="T",
-                             **kw)
-        return CalibrationCurve(fit=fit, instrument=self.instrument, resolution_t=self.resolution_t,
+        if form == "error":
+            x, y = self.indications, self.errors
+        else:
+            x = tuple(p.reference for p in self.points)
+            y = tuple(p.reference + p.error for p in self.points)
+        fit = fit_polynomial(x, y, degree, x0=x0, scale=scale, x_unit="T", y_unit="T", **kw)
+        return CalibrationCurve(fit=fit, instrument=self.instrument, resolution_t=self.resolution_t, form=form,
                                 warnings=self.warnings + fit.warnings)
 
     def __repr__(self) -> str:
@@ -745,28 +779,62 @@ class CalibrationCurve:
     fit: CurveFit
     instrument: str = ""
     resolution_t: float = 0.0
+    form: str = "error"
     warnings: tuple[str, ...] = ()
 
     def predict(self, reading_t: float, *, u_reading_t: float | None = None) -> FieldPrediction:
         """Corrected field for a later reading ``reading_t`` (T).
 
-        ``u_reading_t``: standard uncertainty of the new reading itself (T);
-        default the resolution alone, ``resolution / (2 sqrt 3)``.  Outside the
-        calibrated range a :class:`CalibrationRangeWarning` is raised and the
-        result says so.
+        ``form="error"``: ``B = R - E(R)``, ``u^2 = g^T V(a) g + u_R^2``.
+        ``form="reading"``: ``B`` solves ``p(B) = R`` (Newton), and by the
+        implicit-function rule ``u^2(B) = (g^T V(a) g + u_R^2) / p'(B)^2``
+        (JCGM 100:2008 5.1.2 applied to the inverse).  ``u_reading_t``: the
+        standard uncertainty of the new reading itself (T), default the
+        resolution alone, ``resolution / (2 sqrt 3)``.  Outside the calibrated
+        range a :class:`CalibrationRangeWarning` is raised and the result says so.
         """
+        if not (isinstance(reading_t, (int, float, np.floating)) and math.isfinite(reading_t)):
+            raise InputError("reading_t", reading_t, "a finite number (T)", _WHERE)
         u_r = self.resolution_t / (2 * math.sqrt(3)) if u_reading_t is None else u_reading_t
-        p = self.fit.predict(reading_t, u_extra=u_r, stacklevel=3)
-        return FieldPrediction(reading=float(reading_t), corrected=float(reading_t) - p.value,
-                               standard_uncertainty=p.standard_uncertainty, u_curve=p.uncertainty_from_curve,
-                               u_reading=float(u_r), inside_range=p.inside_range, warnings=p.warnings)
+        if not (math.isfinite(u_r) and u_r >= 0):
+            raise InputError("u_reading_t", u_reading_t, "a finite number >= 0 (T)", _WHERE)
+        r = float(reading_t)
+        if self.form == "error":
+            p = self.fit.predict(r, u_extra=u_r, _stacklevel=3)
+            return FieldPrediction(reading=r, corrected=r - p.value, standard_uncertainty=p.standard_uncertainty,
+                                   u_curve=p.uncertainty_from_curve, u_reading=float(u_r),
+                                   inside_range=p.inside_range, warnings=p.warnings)
+        a = self.fit.coefficient_array
+        x0 = self.fit.x0
+        da = np.array([j * a[j] for j in range(1, len(a))])
+
+        def slope(b: float) -> float:
+            return float(sum(c * (b - x0) ** j for j, c in enumerate(da))) if len(da) else 0.0
+
+        b = r
+        for _ in range(100):
+            d = slope(b)
+            if d == 0:
+                raise InputError("reading_t", r, "a reading where the fitted curve is not flat", _WHERE)
+            step = (self.fit.value_at(b) - r) / d
+            b -= step
+            if abs(step) <= 1e-15 * max(1.0, abs(b)):
+                break
+        else:
+            raise InputError("reading_t", r, "a reading the fitted curve reaches (Newton did not converge)",
+                             _WHERE)
+        d = abs(slope(b))
+        p = self.fit.predict(b, _stacklevel=3)
+        return FieldPrediction(reading=r, corrected=b, standard_uncertainty=math.hypot(p.standard_uncertainty, u_r) / d,
+                               u_curve=p.standard_uncertainty / d, u_reading=float(u_r) / d,
+                               inside_range=p.inside_range, warnings=p.warnings)
 
     def __repr__(self) -> str:
-        return f"<CalibrationCurve {self.instrument or 'instrument'}: {self.fit!r}>"
+        return f"<CalibrationCurve {self.instrument or 'instrument'} ({self.form} form): {self.fit!r}>"
 
     def to_dict(self) -> dict:
-        return {"instrument": self.instrument, "fit": self.fit.to_dict(), "resolution_t": self.resolution_t,
-                "warnings": list(self.warnings)}
+        return {"instrument": self.instrument, "form": self.form, "fit": self.fit.to_dict(),
+                "resolution_t": self.resolution_t, "warnings": list(self.warnings)}
 
     def _repr_html_(self) -> str:
         return self.fit._repr_html_() + "".join(f"<p>{_display.escape(w)}</p>" for w in self.warnings)

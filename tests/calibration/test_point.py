@@ -15,7 +15,7 @@ import warnings
 import numpy as np
 import pytest
 
-from fieldbudget.calibration import CalibrationPoint, CalibrationRangeWarning, CalibrationSet
+from fieldbudget.calibration import CalibrationPoint, CalibrationRangeWarning, CalibrationSet, assess_conformity, Tolerance
 from fieldbudget.engine import Budget, InputQuantity, Normal, evaluate, montecarlo
 from fieldbudget.errors import InputError
 
@@ -245,3 +245,45 @@ def test_nmr_results_are_merged_through_their_budgets():
     np.testing.assert_allclose(a.covariance, b.covariance, rtol=1e-6)
     assert a.correlation[0, 2] > 0.5  # the shared timebase and probe terms dominate here
     assert [p.reference for p in a.points] == pytest.approx(fields, rel=1e-15)
+
+
+def test_reading_form_inverts_the_curve():
+    # invented data: R = (1 + 2e-4) B + 3e-6 exactly; the inverse by hand is B = (R - 3e-6) / (1 + 2e-4)
+    res = _set(u_temperature_coefficient_per_k=3e-5).evaluate("gum")
+    curve = res.fit(1, form="reading")
+    a0, a1 = curve.fit.coefficients
+    assert a1 == pytest.approx(1 + 2e-4, rel=1e-9) and a0 == pytest.approx(3e-6, rel=1e-6, abs=1e-12)
+    p = curve.predict(1.2)
+    b = (1.2 - a0) / a1
+    assert p.corrected == pytest.approx(b, rel=1e-14)
+    v = curve.fit.covariance_matrix
+    u_r = 1e-5 / (2 * math.sqrt(3))
+    by_hand = math.sqrt(v[0, 0] + b * b * v[1, 1] + 2 * b * v[0, 1] + u_r**2) / a1  # JCGM 100:2008 eq. (13)
+    assert p.standard_uncertainty == pytest.approx(by_hand, rel=1e-9)
+    # both forms agree on this exactly linear data
+    q = res.fit(1).predict(1.2)
+    assert q.corrected == pytest.approx(p.corrected, abs=1e-12)
+    with pytest.raises(InputError, match="form"):
+        res.fit(1, form="table")
+
+
+def test_conformity_of_a_point_result():
+    # The point result is result-like.  With the tilt dominating, E = E0 + B theta^2/2 is skewed: the normal
+    # PDF overstates p_c, the Monte Carlo histogram does not.  Independent check: theta^2/u^2 is chi-square
+    # with 1 dof, so p_c ~ P(chi2_1 <= 2 (T_U - E0) / (B u^2)) (scipy.stats.chi2; the small normal part of
+    # E, about 5e-6 T, smears this by well under 0.003).
+    import scipy.stats
+
+    u = 0.01
+    gum = _set(tilt_u_rad=u).evaluate("gum")
+    res = _set(tilt_u_rad=u).evaluate(seed=3, trials=100_000)
+    pt = res.points[2]
+    b_ref, e0 = pt.reference, gum.points[2].error
+    t_u = 5e-4 * 1.0 + 2e-5  # invented specification: +-(0.05 % of reading + 20 uT)
+    tol = Tolerance.symmetric(0.0, t_u, "T", source="HX-400 data sheet (invented)")
+    normal = assess_conformity(tol, pt, rule="guarded acceptance")
+    hist = assess_conformity(tol, pt, distribution="histogram")
+    assert normal.estimate == pt.error and normal.standard_uncertainty == pt.u_error
+    exact = scipy.stats.chi2.cdf(2 * (t_u - e0) / (b_ref * u * u), 1)
+    assert hist.probability_of_conformity == pytest.approx(exact, abs=0.003)
+    assert normal.probability_of_conformity > exact + 0.005
