@@ -451,6 +451,12 @@ def _build(m: NMRMeasurement) -> Budget:
         den.append("(1 - alpha_T * (t_s - t_ref))")
     elif sample.has("u_temperature_C") and not sample.has("temperature_C"):
         raise sample.fail("temperature_C", "missing: give the sample temperature with its uncertainty")
+    elif sample.has("temperature_C"):
+        sample.number("temperature_C")
+        # Say so in the budget rather than drop the value silently.
+        inputs[0] = inputs[0].replace(note="; ".join(x for x in (
+            inputs[0].note, f"sample temperature {sample.number('temperature_C'):g} degC recorded; no temperature "
+            "term: the water shielding coefficient applies to the shielded proton only") if x))
 
     shape_terms = _shape_inputs(sample, nuc, t_sym)
     if shape_terms is not None:

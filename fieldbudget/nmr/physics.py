@@ -38,6 +38,7 @@ Sources of the formulas (also given in each docstring):
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 from scipy import integrate, optimize, special
@@ -205,7 +206,11 @@ def demag_cylinder_axial(length_over_diameter: float) -> float:
     the Bessel function and closed with its asymptotic tail 1/(pi x^3).
     Accuracy about 1e-7.
     """
-    g = _finite("length_over_diameter", length_over_diameter, positive=True)
+    return _demag_cylinder_axial(_finite("length_over_diameter", length_over_diameter, positive=True))
+
+
+@lru_cache(maxsize=512)  # forms re-evaluate the same ratio on every keystroke; a quadrature is 1-60 ms
+def _demag_cylinder_axial(g: float) -> float:
     if g >= 0.1:
         damped, _ = integrate.quad(lambda x: _j1sq_over_x2(x) * math.exp(-2.0 * g * x), 0.0, np.inf, limit=200)
         return (_J1SQ_OVER_X2 - damped) / g

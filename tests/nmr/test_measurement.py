@@ -354,3 +354,11 @@ def test_monte_carlo_validates_the_example_budget():
     mc = montecarlo.run(budget, trials=100_000, seed=20261202)
     check = validation.validate(evaluate(budget), mc)
     assert check.to_dict().get("validated", check.to_dict().get("passed"))
+
+
+def test_temperature_of_a_non_water_probe_is_noted_not_applied():
+    m = NMRMeasurement.from_dict({"nucleus": "shielded-helion", "frequency": {"value_Hz": 40e6, "u_Hz": 0.1},
+                                  "sample": {"temperature_C": 30.0}})
+    b = m.to_budget()
+    assert "t_s" not in b.symbols
+    assert "no temperature term" in b.input("gamma_h_sh").note

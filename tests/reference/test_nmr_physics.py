@@ -221,3 +221,16 @@ def test_gradient_broadening_proton():
     g = sc.value("shielded proton gyromag. ratio in MHz/T") * 1e6
     assert physics.gradient_broadening_hz(1e-5, 0.01, g) == pytest.approx(g * 1e-7, rel=1e-15)
     assert physics.max_usable_gradient_t_per_m(4.2576385, 0.01, g) == pytest.approx(1e-5, rel=1e-6)
+
+
+@pytest.mark.parametrize("label, gamma_1e7", [
+    # Harris et al., Pure Appl. Chem. 73, 1795 (2001), Table 1, gamma in 1e7 rad s^-1 T^-1; digits as
+    # transcribed in several independent public NMR code files (secondary; the table itself was not read)
+    ("7Li", 10.3977013), ("13C", 6.728284), ("19F", 25.18148), ("23Na", 7.0808493),
+    ("27Al", 6.9762715), ("31P", 10.8394),
+])
+def test_iupac_ratios_against_the_published_table(label, gamma_1e7):
+    rv = nucleus(label).gyromagnetic_ratio()
+    assert rv.value == pytest.approx(gamma_1e7 * 1e7 / (2 * math.pi) / 1e6, rel=1e-12)
+    # our uncertainty policy for IUPAC values: at least 1 ppm (they are not CODATA values)
+    assert rv.uncertainty / rv.value >= 1e-6
