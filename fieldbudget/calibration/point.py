@@ -184,6 +184,11 @@ class CalibrationPoint:
         if self.u_reversal_t and not self.reversed_readings_t:
             raise InputError("u_reversal_t", self.u_reversal_t, "0 unless reversed_readings_t are given", where)
 
+    def __repr__(self) -> str:
+        rev = f", {len(self.reversed_readings_t)} reversed" if self.reversed_readings_t else ""
+        return (f"<CalibrationPoint {self.name or '?'}: {len(self.readings_t)} readings{rev}, "
+                f"indication {self.indication:.8g} T, reference {type(self.reference).__name__}>")
+
     @property
     def indication(self) -> float:
         """The indication the curve is fitted against, T: mean reading, or half the reversal difference."""
@@ -287,6 +292,23 @@ class CalibrationSet:
         budget, notes = self._build()
         object.__setattr__(self, "_budget", budget)
         object.__setattr__(self, "_notes", tuple(notes))
+
+    def __repr__(self) -> str:
+        return (f"<CalibrationSet {self.instrument or 'instrument'}: {len(self.points)} points, "
+                f"{len(self._budget.inputs)} inputs>")
+
+    def to_dict(self) -> dict:
+        """The merged budget (budget-file form) with the points' names and indications."""
+        return {"instrument": self.instrument, "points": [p.name for p in self.points],
+                "indications": list(self.indications), "reference_values": list(self.reference_values),
+                "budget": self._budget.to_dict(), "warnings": list(self._notes)}
+
+    def _repr_html_(self) -> str:
+        rows = [(q.symbol, _display.fmt(q.estimate, 10), q.unit, q.distribution.describe(),
+                 _display.fmt(q.standard_uncertainty, 3), q.description or q.source) for q in self._budget.inputs]
+        body = (f"<p>{_display.escape(self._budget.model.text())}</p>"
+                + _display.html_table(("symbol", "estimate", "unit", "distribution", "u", "what"), rows))
+        return _display.html_block(f"Calibration budget of {self.instrument}".strip(), body)
 
     # -- the multi-output budget ------------------------------------------------------------
     @property

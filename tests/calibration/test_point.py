@@ -287,3 +287,20 @@ def test_conformity_of_a_point_result():
     exact = scipy.stats.chi2.cdf(2 * (t_u - e0) / (b_ref * u * u), 1)
     assert hist.probability_of_conformity == pytest.approx(exact, abs=0.003)
     assert normal.probability_of_conformity > exact + 0.005
+
+
+def test_one_mounting_correlates_the_tilt_between_points():
+    # tilt_per_point=False: one angle for all points, so its (nonlinear) effect is fully shared
+    shared = _set(tilt_u_rad=0.02, tilt_per_point=False)
+    apart = _set(tilt_u_rad=0.02)
+    assert shared.budget.symbols.count("theta") == 1 and "theta_1" in apart.budget.symbols
+    rs, ra = shared.evaluate(seed=8, trials=50_000), apart.evaluate(seed=8, trials=50_000)
+    assert rs.correlation[1, 4] > 0.95 > ra.correlation[1, 4] + 0.5
+
+
+def test_definition_forms():
+    cs = _set()
+    assert "\n" not in repr(cs) and "\n" not in repr(cs.points[0])
+    d = json.loads(json.dumps(cs.to_dict()))
+    assert d["budget"]["model"]["E_1"].startswith("(R_1 + dres_1)")
+    assert "<table" in cs._repr_html_()
