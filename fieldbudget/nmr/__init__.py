@@ -21,6 +21,17 @@ from .nuclei import (
 )
 
 __all__ = [
-    "physics", "NMRMeasurement", "NMRResult", "FILE_FORMAT", "Nucleus", "NUCLEUS_NAMES", "DEFAULT_NUCLEUS",
-    "LarmorConversion", "larmor_field", "larmor_frequency", "nucleus", "nucleus_names", "gamma_hz_per_t",
+    "DEFAULT_NUCLEUS",
+    "FILE_FORMAT",
+    "NUCLEUS_NAMES",
+    "LarmorConversion",
+    "NMRMeasurement",
+    "NMRResult",
+    "Nucleus",
+    "gamma_hz_per_t",
+    "larmor_field",
+    "larmor_frequency",
+    "nucleus",
+    "nucleus_names",
+    "physics",
 ]

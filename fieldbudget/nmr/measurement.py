@@ -39,12 +39,20 @@ import numpy as np
 
 from .. import _display as D
 from .. import constants
-from ..engine import Budget, InputQuantity, Measurand, Model, Normal, Rectangular, evaluate
+from ..engine import (
+    Budget,
+    InputQuantity,
+    Measurand,
+    Model,
+    Normal,
+    Rectangular,
+    evaluate,
+)
 from ..errors import BudgetFileError, FieldbudgetError, InputError
 from . import physics
 from .nuclei import DEFAULT_NUCLEUS, Nucleus, nucleus
 
-__all__ = ["NMRMeasurement", "NMRResult", "FILE_FORMAT", "LIMITING_SHARE"]
+__all__ = ["FILE_FORMAT", "LIMITING_SHARE", "NMRMeasurement", "NMRResult"]
 
 FILE_FORMAT = "fieldbudget-nmr/1"
 
@@ -164,7 +172,7 @@ class _Reader:
             raise self.fail(key, f"must be one of {', '.join(repr(c) for c in choices)} (got {v!r})")
         return v
 
-    def section(self, key: str) -> "_Reader | None":
+    def section(self, key: str) -> _Reader | None:
         if not self.has(key):
             return None
         v = self.data[key]
@@ -219,11 +227,11 @@ class NMRMeasurement:
 
     # -- constructors --------------------------------------------------------------
     @classmethod
-    def from_dict(cls, d: Mapping, where: str = "measurement", base_dir: str | Path = ".") -> "NMRMeasurement":
+    def from_dict(cls, d: Mapping, where: str = "measurement", base_dir: str | Path = ".") -> NMRMeasurement:
         return cls(d, where=where, base_dir=str(base_dir))
 
     @classmethod
-    def from_file(cls, path: str | Path) -> "NMRMeasurement":
+    def from_file(cls, path: str | Path) -> NMRMeasurement:
         p = Path(path)
         try:
             text = p.read_text(encoding="utf-8")
@@ -256,7 +264,7 @@ class NMRMeasurement:
         """The ordinary engine budget of this measurement (measurand B0 in T)."""
         return self._budget  # type: ignore[attr-defined]
 
-    def evaluate(self) -> "NMRResult":
+    def evaluate(self) -> NMRResult:
         """Evaluate the budget (GUM law of propagation) and add the physics warnings."""
         budget = self.to_budget()
         result = evaluate(budget)
@@ -385,7 +393,7 @@ def _build(m: NMRMeasurement) -> Budget:
     fr = top.section("frequency")
     if fr is None:
         raise top.fail("frequency", "missing: give value_Hz with u_Hz, readings_Hz or readings_csv")
-    f_read, f_mean = _frequency_input(fr, m)
+    f_read, _f_mean = _frequency_input(fr, m)
     add(f_read)
     num_f = ["f_read"]
     res = fr.number("counter_resolution_Hz", positive=True)
@@ -455,8 +463,8 @@ def _build(m: NMRMeasurement) -> Budget:
         sample.number("temperature_C")
         # Say so in the budget rather than drop the value silently.
         inputs[0] = inputs[0].replace(note="; ".join(x for x in (
-            inputs[0].note, f"sample temperature {sample.number('temperature_C'):g} degC recorded; no temperature "
-            "term: the water shielding coefficient applies to the shielded proton only") if x))
+            inputs[0].note, (f"sample temperature {sample.number('temperature_C'):g} degC recorded; no temperature "
+            "term: the water shielding coefficient applies to the shielded proton only")) if x))
 
     shape_terms = _shape_inputs(sample, nuc, t_sym)
     if shape_terms is not None:

@@ -28,15 +28,15 @@ from ..errors import InputError, UnknownConstantError
 from . import physics
 
 __all__ = [
-    "Nucleus",
-    "NUCLEUS_NAMES",
     "DEFAULT_NUCLEUS",
-    "nucleus",
-    "nucleus_names",
+    "NUCLEUS_NAMES",
     "LarmorConversion",
+    "Nucleus",
+    "gamma_hz_per_t",
     "larmor_field",
     "larmor_frequency",
-    "gamma_hz_per_t",
+    "nucleus",
+    "nucleus_names",
 ]
 
 DEFAULT_NUCLEUS = "shielded-proton"

@@ -37,6 +37,7 @@ Sources of the formulas (also given in each docstring):
 
 from __future__ import annotations
 
+import itertools
 import math
 from functools import lru_cache
 
@@ -46,25 +47,25 @@ from scipy import integrate, optimize, special
 from ..errors import InputError
 
 __all__ = [
-    "field_from_frequency",
-    "frequency_from_field",
-    "resolution_ppm",
-    "gradient_broadening_hz",
-    "max_usable_gradient_t_per_m",
-    "demag_sphere",
-    "demag_long_cylinder",
-    "demag_cylinder",
-    "demag_cylinder_axial",
-    "isotropic_cylinder_aspect_ratio",
-    "demag_spheroid",
-    "demag_ellipsoid",
     "bulk_susceptibility_shift",
-    "water_temperature_shift",
     "curvature_mean_square_m2",
     "curvature_shift_t",
-    "lorentzian_centre_uncertainty_hz",
+    "demag_cylinder",
+    "demag_cylinder_axial",
+    "demag_ellipsoid",
+    "demag_long_cylinder",
+    "demag_sphere",
+    "demag_spheroid",
     "fid_frequency_crb_hz",
+    "field_from_frequency",
+    "frequency_from_field",
+    "gradient_broadening_hz",
+    "isotropic_cylinder_aspect_ratio",
     "linewidth_from_t2_hz",
+    "lorentzian_centre_uncertainty_hz",
+    "max_usable_gradient_t_per_m",
+    "resolution_ppm",
+    "water_temperature_shift",
 ]
 
 _HERE = "fieldbudget.nmr.physics"
@@ -219,7 +220,7 @@ def _demag_cylinder_axial(g: float) -> float:
         return _j1sq_over_x2(x) * -math.expm1(-2.0 * g * x)
 
     edges = np.arange(0.0, 3000.0, math.pi)
-    total = sum(integrate.quad(f, a, b)[0] for a, b in zip(edges[:-1], edges[1:]))
+    total = sum(integrate.quad(f, a, b)[0] for a, b in itertools.pairwise(edges))
     # Tail: J1(x)^2 averages to 1/(pi x); int_X^inf (1 - e^{-ax})/x^3 dx = (1/2 - E_3(aX))/X^2.
     x_end = edges[-1]
     tail = (0.5 - special.expn(3, 2.0 * g * x_end)) / (math.pi * x_end**2)
@@ -401,7 +402,7 @@ def fid_frequency_crb_hz(amplitude_to_noise: float, t2_s: float, sample_interval
             raise InputError("record_s", record_s, "a record length in s when T2 is infinite", _HERE)
         return math.sqrt(dt / t2**3) / (math.pi * snr)
     rec = _finite("record_s", record_s, positive=True)
-    n = int(round(rec / dt))  # number of samples in the record
+    n = round(rec / dt)  # number of samples in the record
     if n < 3:
         raise InputError("record_s", record_s, "at least three sample intervals long", _HERE)
     # Work in units of dt so the sums stay well scaled.

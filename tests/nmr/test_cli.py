@@ -29,7 +29,7 @@ def test_larmor_frequency_to_field(capsys):
 
 @pytest.mark.parametrize("value, unit", [("1", "T"), ("1000", "mT"), ("10000", "G"), ("1000000", "uT")])
 def test_larmor_field_units(capsys, value, unit):
-    code, out, _ = run(capsys, "larmor", value, unit, "--nucleus", "proton", "--codata", "2018", "--json")
+    _code, out, _ = run(capsys, "larmor", value, unit, "--nucleus", "proton", "--codata", "2018", "--json")
     d = json.loads(out)
     # CODATA 2018 proton gyromag. ratio in MHz/T: 42.577 478 518
     assert d["frequency_Hz"] == pytest.approx(42.577478518e6, rel=1e-14)
@@ -47,7 +47,7 @@ def test_larmor_text(capsys):
     (("larmor", "1", "T", "--codata", "1998"), "codata must be one of the CODATA editions"),
 ])
 def test_larmor_user_errors_exit_2(capsys, argv, words):
-    code, out, err = run(capsys, *argv)
+    code, _out, err = run(capsys, *argv)
     assert code == 2 and words in err and "Traceback" not in err
     assert len(err.strip().splitlines()) == 1
 

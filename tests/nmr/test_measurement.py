@@ -273,7 +273,7 @@ def test_gradient_broadening_warning(factor, warned):
 def test_gradient_limit_uses_natural_width_and_ratio():
     gamma = sc.value("shielded proton gyromag. ratio in MHz/T") * 1e6
     g = 3.0 / (gamma * 0.005)  # spreads 3 Hz over 5 mm
-    common = dict(sample={"diameter_m": 0.005}, gradient_T_per_m=g, offset_m=0.0)
+    common = {"sample": {"diameter_m": 0.005}, "gradient_T_per_m": g, "offset_m": 0.0}
     assert _simple(line={"fwhm_Hz": 3.5, "natural_fwhm_Hz": 1.0}, **common)
     assert not _simple(line={"fwhm_Hz": 3.5, "natural_fwhm_Hz": 1.0, "max_broadening_ratio": 3.0}, **common)
 

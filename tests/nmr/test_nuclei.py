@@ -9,7 +9,13 @@ import scipy.constants as sc
 
 from fieldbudget.constants import iupac_isotopes, nuclear_spin_data
 from fieldbudget.errors import InputError
-from fieldbudget.nmr import NUCLEUS_NAMES, larmor_field, larmor_frequency, nucleus, nucleus_names
+from fieldbudget.nmr import (
+    NUCLEUS_NAMES,
+    larmor_field,
+    larmor_frequency,
+    nucleus,
+    nucleus_names,
+)
 
 
 def test_names():
