@@ -64,7 +64,7 @@ DEFAULT_TRIALS = 1_000_000
 """JCGM 101:2008 7.2.1: M = 10^6 can often be expected to give a 95 % interval correct to one or two digits."""
 ADAPTIVE_MAX_TRIALS = 10_000_000
 """Upper limit of the adaptive procedure unless ``max_trials`` says otherwise (keeps memory bounded)."""
-DEFAULT_CHUNK = 200_000
+DEFAULT_CHUNK = 100_000
 HISTOGRAM_BINS = 100
 GENERATOR = "PCG64"
 _WHERE = "Monte Carlo"

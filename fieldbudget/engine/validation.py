@@ -138,11 +138,17 @@ def _advice(passed, y, U, u_gum, lo, hi, delta, d_low, d_high, mc) -> str:
                 "second-order terms) instead.")
     mid_shift = abs((lo + hi) / 2.0 - y)
     half_gum, half_mc = U, (hi - lo) / 2.0
+    u_mc = mc.standard_uncertainty
+    u_note = ""
+    if abs(u_mc - u_gum) > delta:
+        u_note = (f" and the trials spread with u = {_display.fmt(u_mc, 2)} against u_c = {_display.fmt(u_gum, 2)}, "
+                  "so the first-order law misses part of the model's nonlinearity")
     if mid_shift > abs(half_gum - half_mc):
         return (f"The Monte Carlo interval is not centred on y (its ends differ from y ± U by {_display.fmt(d_low, 2)} "
-                f"below and {_display.fmt(d_high, 2)} above, more than {tol}), a sign of a skewed output or a "
-                "biased first-order estimate; report the Monte Carlo estimate and interval.")
+                f"below and {_display.fmt(d_high, 2)} above, more than {tol}){u_note}; the output is skewed, so "
+                "report the Monte Carlo estimate and interval.")
     wider = "wider" if half_gum > half_mc else "narrower"
     return (f"y ± U is {wider} than the Monte Carlo interval by more than {tol} "
-            f"(d_low = {_display.fmt(d_low, 2)}, d_high = {_display.fmt(d_high, 2)}), because the output is not "
-            "close to the normal or t-distribution that k assumes; report the Monte Carlo interval.")
+            f"(d_low = {_display.fmt(d_low, 2)}, d_high = {_display.fmt(d_high, 2)}){u_note or ''}"
+            f"{'' if u_note else ', because the output is not close to the normal or t-distribution that k assumes'}"
+            "; report the Monte Carlo interval.")
