@@ -251,6 +251,10 @@ class NMRMeasurement:
     def __hash__(self) -> int:
         return hash(json.dumps(self.to_dict(), sort_keys=True))
 
+    def __reduce__(self):
+        # the read-only mapping views cannot be pickled or deep-copied; rebuild from plain data
+        return (type(self).from_dict, (self.to_dict(), self.where, self.base_dir))
+
     # -- derived ------------------------------------------------------------------
     @property
     def nucleus(self) -> Nucleus:

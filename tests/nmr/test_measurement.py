@@ -362,3 +362,12 @@ def test_temperature_of_a_non_water_probe_is_noted_not_applied():
     b = m.to_budget()
     assert "t_s" not in b.symbols
     assert "no temperature term" in b.input("gamma_h_sh").note
+
+
+def test_measurement_and_result_pickle_and_copy():
+    import pickle
+
+    m = NMRMeasurement.from_file(DATA / "water_cylinder_1p5T.json")
+    assert pickle.loads(pickle.dumps(m)) == m
+    assert copy.deepcopy(m) == m
+    assert pickle.loads(pickle.dumps(m)).to_budget().to_dict() == m.to_budget().to_dict()
