@@ -83,7 +83,7 @@ _SECTION_KEYS = {
     "line": {"fwhm_Hz", "snr", "points_per_fwhm", "natural_fwhm_Hz", "max_broadening_ratio", "u_Hz",
              "amplitude_to_noise", "t2_s", "sample_interval_s", "record_s", "source"},
     "probe_perturbation": {"value", "u", "source"},
-    "drift": {"readings_Hz", "method", "stability", "distribution", "source"},
+    "drift": {"readings_Hz", "method", "readings_per_interval", "stability", "distribution", "source"},
     "curvature": {"d2B_dz2_T_per_m2", "u_d2B_dz2_T_per_m2", "model", "source"},
     "probe": {"tuning_range_Hz", "name", "serial", "source"},
     "g_factor": {"value", "u", "source"},
@@ -657,11 +657,19 @@ def _drift_input(dr: _Reader) -> InputQuantity:
             dof = len(y) - 1
             how = f"standard deviation of {len(y)} logged readings / their mean, n - 1 dof"
         else:
-            # Allan deviation at the logging interval: sqrt(<(y_{k+1} - y_k)^2> / 2) of the fractional readings.
-            frac = y / mean
+            # Non-overlapping Allan deviation at tau = m tau0 (m = readings_per_interval, the measurement
+            # interval in logging intervals): sqrt(<(ybar_{k+1} - ybar_k)^2> / 2) of the block means.
+            m = dr.number("readings_per_interval", 1.0, positive=True)
+            if m != int(m):
+                raise dr.fail("readings_per_interval", f"must be a whole number >= 1 (got {m!r})")
+            m = int(m)
+            blocks = len(y) // m
+            if blocks < 3:
+                raise dr.fail("readings_per_interval", f"leaves {blocks} averaging intervals; at least 3 are needed")
+            frac = y[: blocks * m].reshape(blocks, m).mean(axis=1) / mean
             u = float(np.sqrt(0.5 * np.mean(np.diff(frac) ** 2)))
-            dof = len(y) - 2
-            how = (f"Allan deviation at the logging interval of {len(y)} readings, n - 2 dof "
+            dof = blocks - 2
+            how = (f"Allan deviation at {m} logging interval(s) from {len(y)} readings, {blocks} intervals - 2 dof "
                    "(first differences minus one; white frequency noise, from memory)")
         return InputQuantity("y_drift", 0.0, Normal(u=u, dof=max(dof, 1)), unit="", source=src or how,
                              description=desc)

@@ -371,3 +371,16 @@ def test_measurement_and_result_pickle_and_copy():
     assert pickle.loads(pickle.dumps(m)) == m
     assert copy.deepcopy(m) == m
     assert pickle.loads(pickle.dumps(m)).to_budget().to_dict() == m.to_budget().to_dict()
+
+
+def test_drift_allan_deviation_at_the_measurement_interval():
+    # non-overlapping Allan deviation of block means (IEEE Std 1139 definition, from memory), computed here
+    log = [63871224.30, 63871224.34, 63871224.31, 63871224.36, 63871224.33, 63871224.29, 63871224.35,
+           63871224.32, 63871224.37]
+    q = meas(drift={"readings_Hz": log, "method": "allan", "readings_per_interval": 3}).to_budget().input("y_drift")
+    y = np.array(log) / np.mean(log)
+    blocks = y.reshape(3, 3).mean(axis=1)
+    assert q.standard_uncertainty == pytest.approx(math.sqrt(0.5 * np.mean(np.diff(blocks) ** 2)), rel=1e-12)
+    with pytest.raises(BudgetFileError) as info:
+        meas(drift={"readings_Hz": log, "method": "allan", "readings_per_interval": 4})
+    assert info.value.pointer == "#/drift/readings_per_interval"
