@@ -38,6 +38,7 @@ accreditation practice that no library covers.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
@@ -48,8 +49,15 @@ import scipy.optimize
 from fieldbudget import _display
 from fieldbudget.errors import InputError
 
-__all__ = ["BestMeasurement", "CMCEntry", "CMCTable", "build_cmc_table", "round_up", "CMC_FORMS",
-           "P14_EDITION"]
+__all__ = [
+    "CMC_FORMS",
+    "P14_EDITION",
+    "BestMeasurement",
+    "CMCEntry",
+    "CMCTable",
+    "build_cmc_table",
+    "round_up",
+]
 
 CMC_FORMS = ("absolute", "relative", "linear")
 P14_EDITION = "ILAC P14:09/2020"
@@ -310,7 +318,7 @@ def build_cmc_table(
     if not rs:
         raise InputError("ranges", ranges, "at least one range", _WHERE)
     rs.sort()
-    for (lo1, hi1), (lo2, hi2) in zip(rs, rs[1:]):
+    for (lo1, hi1), (lo2, hi2) in itertools.pairwise(rs):
         if lo2 < hi1:
             raise InputError("ranges", ((lo1, hi1), (lo2, hi2)), "ranges that do not overlap", _WHERE)
     entries = []

@@ -38,8 +38,13 @@ import scipy.stats
 from fieldbudget import _display
 from fieldbudget.errors import InputError
 
-__all__ = ["Tolerance", "ConformityResult", "assess_conformity", "probability_of_conformity",
-           "DECISION_RULES"]
+__all__ = [
+    "DECISION_RULES",
+    "ConformityResult",
+    "Tolerance",
+    "assess_conformity",
+    "probability_of_conformity",
+]
 
 DECISION_RULES = ("simple acceptance", "guarded acceptance")
 _WHERE = "conformity"
@@ -222,14 +227,14 @@ class ConformityResult:
         rows = [
             ("estimate", f"{_display.fmt(self.estimate)} {unit}"),
             ("standard uncertainty", f"{_display.fmt(self.standard_uncertainty, 3)} {unit}"),
-            ("expanded uncertainty", f"{_display.fmt(self.expanded_uncertainty, 3)} {unit} "
-                                     f"(k = {self.coverage_factor:.2f})"),
-            ("tolerance interval", f"[{_display.fmt(self.tolerance.lower)}, {_display.fmt(self.tolerance.upper)}] "
-                                   f"{unit}"),
+            ("expanded uncertainty",
+             f"{_display.fmt(self.expanded_uncertainty, 3)} {unit} (k = {self.coverage_factor:.2f})"),
+            ("tolerance interval",
+             f"[{_display.fmt(self.tolerance.lower)}, {_display.fmt(self.tolerance.upper)}] {unit}"),
             ("decision rule", self.decision_rule),
             ("guard band", f"{_display.fmt(self.guard_band, 3)} {unit}"),
-            ("acceptance interval", f"[{_display.fmt(self.acceptance_lower)}, "
-                                    f"{_display.fmt(self.acceptance_upper)}] {unit}"),
+            ("acceptance interval",
+             f"[{_display.fmt(self.acceptance_lower)}, {_display.fmt(self.acceptance_upper)}] {unit}"),
             ("probability of conformity", f"{100 * self.probability_of_conformity:.2f} % ({self.distribution})"),
             ("capability index C_m", _display.fmt(self.capability_index, 3)),
             ("decision", self.decision),

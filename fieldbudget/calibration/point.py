@@ -68,8 +68,16 @@ from fieldbudget.errors import InputError
 
 from .curve import CalibrationRangeWarning, CurveFit, fit_polynomial
 
-__all__ = ["CalibrationPoint", "CalibrationSet", "CalibrationResult", "PointResult", "CalibrationCurve",
-           "FieldPrediction", "PROPAGATIONS", "CURVE_FORMS"]
+__all__ = [
+    "CURVE_FORMS",
+    "PROPAGATIONS",
+    "CalibrationCurve",
+    "CalibrationPoint",
+    "CalibrationResult",
+    "CalibrationSet",
+    "FieldPrediction",
+    "PointResult",
+]
 
 PROPAGATIONS = ("auto", "gum", "monte carlo")
 CURVE_FORMS = ("error", "reading")
@@ -338,10 +346,9 @@ class CalibrationSet:
                                  "reference budget's input)", where)
             inputs[q.symbol] = q
 
-        if self.u_zero_offset_t or self.zero_offset_t:
-            if any(not p.reversed_readings_t for p in self.points):
-                add(InputQuantity("R_zero", self.zero_offset_t, Normal(u=self.u_zero_offset_t), unit="T",
-                                  source="zero-field chamber reading", description="zero offset of the instrument"))
+        if (self.u_zero_offset_t or self.zero_offset_t) and any(not p.reversed_readings_t for p in self.points):
+            add(InputQuantity("R_zero", self.zero_offset_t, Normal(u=self.u_zero_offset_t), unit="T",
+                              source="zero-field chamber reading", description="zero offset of the instrument"))
         if self.u_temperature_coefficient_per_k or self.temperature_coefficient_per_k:
             add(InputQuantity("a_temp", self.temperature_coefficient_per_k,
                               Normal(u=self.u_temperature_coefficient_per_k), unit="1/K",

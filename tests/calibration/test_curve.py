@@ -9,6 +9,7 @@ system ``L^-1 X a = L^-1 y`` (L the Cholesky factor of V(y), from
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 import warnings
@@ -156,7 +157,7 @@ def test_repr_html_dict():
     assert "&lt;b&gt;&amp;" in html and "<b>&" not in html
     d = json.loads(json.dumps(fit.to_dict()))
     assert d["method"] == "generalised" and len(d["points"]) == 5
-    with pytest.raises(Exception):
+    with pytest.raises(dataclasses.FrozenInstanceError):
         fit.degree = 2  # frozen
 
 

@@ -8,6 +8,7 @@ practice / standard result), and the Monte Carlo standard error s/sqrt(M).
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 import warnings
@@ -15,7 +16,13 @@ import warnings
 import numpy as np
 import pytest
 
-from fieldbudget.calibration import CalibrationPoint, CalibrationRangeWarning, CalibrationSet, assess_conformity, Tolerance
+from fieldbudget.calibration import (
+    CalibrationPoint,
+    CalibrationRangeWarning,
+    CalibrationSet,
+    Tolerance,
+    assess_conformity,
+)
 from fieldbudget.engine import Budget, InputQuantity, Normal, evaluate, montecarlo
 from fieldbudget.errors import InputError
 
@@ -214,7 +221,7 @@ def test_forms_are_plain_and_escaped():
         json.dumps(obj.to_dict())
     assert "&lt;s/n 0193&gt; &amp; co" in res._repr_html_()
     assert "<s/n" not in res._repr_html_()
-    with pytest.raises(Exception):
+    with pytest.raises(dataclasses.FrozenInstanceError):
         res.points[0].error = 0.0
 
 
