@@ -63,6 +63,7 @@ RESULT_QUANTITIES: dict[str, dict[str, str]] = {
     "teslameter-calibration": {
         "max_abs_error": "T",
         "max_expanded_uncertainty": "T",
+        "nonconforming_points": "1",
         "warning_count": "1",
     },
 }
@@ -457,11 +458,12 @@ def procedure_from_dict(data: dict, where: str = "procedure") -> Procedure:
         if cd["edition"] not in allowed:
             _fail(where, ["codata", "edition"], f"must be one of 'allowed' {list(allowed)} (got {cd['edition']!r})")
         codata = CodataPolicy(cd["edition"], cd.get("operator_may_choose", False), allowed, cd.get("reason", ""))
-        if "codata" in targets:
-            _fail(where, ["components", targets["codata"], "target"],
-                  "must not be 'codata' when the file has a [codata] table (the table sets it)")
+        codata_target = "codata" if kind == "nmr-field" else "reference.codata"
+        if codata_target in targets:
+            _fail(where, ["components", targets[codata_target], "target"],
+                  f"must not be {codata_target!r} when the file has a [codata] table (the table sets it)")
         components.append(Component(
-            id=CODATA_COMPONENT, target="codata", label="CODATA edition", kind="choice",
+            id=CODATA_COMPONENT, target=codata_target, label="CODATA edition", kind="choice",
             set_by="operator" if codata.operator_may_choose else "lab", value=codata.edition,
             source=codata.reason or "the lab's CODATA edition policy", choices=allowed,
             training=Training(

@@ -16,6 +16,7 @@ import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
@@ -124,6 +125,9 @@ def result_quantities(kind: str, result: Any) -> dict[str, float]:
             x = getattr(result, name, None)
             if x is not None:
                 out[name] = float(x)
+        conformity = getattr(result, "conformity", None)
+        if conformity:
+            out["nonconforming_points"] = float(sum(1 for c in conformity if not c.accepted))
     return out
 
 
@@ -450,18 +454,23 @@ class ProcedureRun:
         return next((s.title for s in self.steps if component_id in s.components), "")
 
     def measurement(self) -> Any:
-        """The domain-layer object for this run (an ``NMRMeasurement`` or a calibration input)."""
+        """The domain-layer object for this run: an ``NMRMeasurement`` or a ``TeslameterCalibration``.
+
+        Relative file paths among the values (a readings CSV) are taken from
+        the procedure file's folder.
+        """
         d = self.measurement_dict()
+        base = Path(self.procedure.path).parent if self.procedure.path else Path(".")
         if self.procedure.kind == "nmr-field":
             from ..nmr.measurement import NMRMeasurement
 
-            return NMRMeasurement.from_dict(d, where=self._values_where)
-        from .. import calibration
+            return NMRMeasurement.from_dict(d, where=self._values_where, base_dir=base)
+        from .teslameter import TeslameterCalibration
 
-        return calibration.TeslameterCalibration.from_dict(d, where=self._values_where)
+        return TeslameterCalibration.from_dict(d, where=self._values_where, base_dir=base)
 
     def budget(self) -> Any:
-        """The engine budget of this run (for a calibration: of its first point)."""
+        """The engine budget of this run (for a calibration: the merged budget of every point)."""
         m = self.measurement()
         return m.to_budget()
 

@@ -17,6 +17,7 @@ its ``input``/``textarea`` sits inside), ``fb-proc-msg`` and
 ``fb-proc-training`` (training panels), ``fb-proc-fixed`` (values the lab
 fixes), ``fb-proc-budget`` (the live budget; the table inside has class
 ``fb-table``), ``fb-proc-u`` (the combined standard uncertainty as text),
+``fb-proc-outcome`` (a calibration's points, curve and conformity),
 ``fb-proc-acceptance``, ``fb-proc-status``.
 """
 
@@ -148,6 +149,7 @@ class ProcedureView:
             "</table></details>"), "fb-proc-fixed")
         self.budget = css(BudgetView(run), "fb-proc-budget")
         self.u_text = css(w.HTML(), "fb-proc-u")
+        self.outcome = css(w.HTML(), "fb-proc-outcome")
         self.acceptance = css(w.HTML(), "fb-proc-acceptance")
         self.status = css(w.HTML(), "fb-proc-status")
         self.back_button.on_click(self._back)
@@ -156,7 +158,8 @@ class ProcedureView:
         nav = w.HBox([self.back_button, self.next_button, self.training_toggle])
         step_box = w.VBox([self.step_title, self.instruction, self.step_cautions, self.fields, nav])
         self.widget = css(w.VBox([self.header, self.safety, self.steps_list, step_box, self.fixed,
-                                  self.status, self.u_text, self.budget, self.acceptance]), "fb-proc")
+                                  self.status, self.u_text, self.budget, self.outcome,
+                                  self.acceptance]), "fb-proc")
         self._unsubscribe = run.subscribe(self._run_changed)
         self._shown_step = -1
         self.render()
@@ -233,10 +236,18 @@ class ProcedureView:
                 if cid in self.rows:
                     self.rows[cid].set_message(text)
         r = run.result
+        # A calibration's own summary (every point, the curve, conformity); an NMR run's budget says it all.
+        o = run.outcome
+        self.outcome.value = "" if o is None or run.procedure.kind == "nmr-field" else o._repr_html_()
+        sym = escape(getattr(getattr(r, "measurand", None), "symbol", "") or "y")
+        unit = escape(getattr(getattr(r, "measurand", None), "unit", "") or "")
+        note = "" if run.procedure.kind == "nmr-field" else (
+            " &middot; first-order budget of the point with the largest U(E); the table of points below "
+            "gives the propagated values")
         self.u_text.value = "" if r is None else (
-            f'<div>u<sub>c</sub>(B) = <span class="fb-proc-u-value">{escape(format_u(r.standard_uncertainty))}'
-            f"</span> T &middot; U = {escape(format_u(r.expanded_uncertainty))} T"
-            f"{'' if run.current else ' (last good budget)'}</div>")
+            f'<div>u<sub>c</sub>({sym}) = <span class="fb-proc-u-value">{escape(format_u(r.standard_uncertainty))}'
+            f"</span> {unit} &middot; U = {escape(format_u(r.expanded_uncertainty))} {unit}"
+            f"{'' if run.current else ' (last good budget)'}{note}</div>")
         self.acceptance.value = run.check()._repr_html_()
 
     # ------------------------------------------------------------ display and teardown

@@ -31,7 +31,7 @@ PROBE = "import sys as _fb_sys; print('FB-KERNEL', _fb_sys.executable)"
 
 def test_there_are_notebooks_to_run():
     names = {p.relative_to(ROOT).as_posix() for p in NOTEBOOKS}
-    assert "templates/nmr-reference-field.ipynb" in names
+    assert {"templates/nmr-reference-field.ipynb", "templates/teslameter-calibration.ipynb"} <= names
     assert any(n.startswith("examples/") for n in names)
 
 
@@ -47,14 +47,25 @@ def _problems(nb) -> list[str]:
     return found
 
 
+def test_problems_are_found():
+    nb = nbformat.v4.new_notebook()
+    nb.cells = [nbformat.v4.new_code_cell("1/0"), nbformat.v4.new_code_cell("x")]
+    nb.cells[0].outputs = [nbformat.v4.new_output("error", ename="ZeroDivisionError", evalue="division by zero")]
+    nb.cells[1].outputs = [nbformat.v4.new_output("stream", name="stderr",
+                                                  text="Traceback (most recent call last):\n  ...\nKeyError: 1\n")]
+    assert [p.split(":")[0] for p in _problems(nb)] == ["cell 0", "cell 1"]
+    nb.cells[1].outputs = [nbformat.v4.new_output("stream", name="stderr", text="a harmless warning\n")]
+    assert len(_problems(nb)) == 1
+
+
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=lambda p: p.relative_to(ROOT).as_posix())
 def test_notebook_runs_without_errors(path, tmp_path, monkeypatch):
     # Keep Jupyter's runtime files (kernel connection files) out of the user's home.
     monkeypatch.setenv("JUPYTER_RUNTIME_DIR", str(tmp_path / "jupyter-runtime"))
-    top = path.relative_to(ROOT).parts[0]
-    work = tmp_path / top
-    shutil.copytree(ROOT / top, work, ignore=shutil.ignore_patterns(".ipynb_checkpoints", "__pycache__"))
-    copy = work / path.relative_to(ROOT / top)
+    # Both folders are copied side by side: a template may point at the demo data in examples/.
+    for top in ("templates", "examples"):
+        shutil.copytree(ROOT / top, tmp_path / top, ignore=shutil.ignore_patterns(".ipynb_checkpoints", "__pycache__"))
+    copy = tmp_path / path.relative_to(ROOT)
     before = path.read_bytes()
 
     nb = nbformat.read(copy, as_version=4)

@@ -100,7 +100,7 @@ CASES = [
     (lambda d: _set(d, ["acceptance", 0, "result"], "u_rel"),
      "lab.toml, at acceptance[0].result: must be one of 'value', 'standard_uncertainty', "
      "'expanded_uncertainty', 'relative_expanded_uncertainty', 'coverage_factor', 'effective_dof', "
-     "'warning_count', 'max_abs_error', 'max_expanded_uncertainty' (got 'u_rel')"),
+     "'warning_count', 'max_abs_error', 'max_expanded_uncertainty', 'nonconforming_points' (got 'u_rel')"),
     (lambda d: _set(d, ["acceptance", 0, "result"], "max_abs_error"),
      "lab.toml, at acceptance[0].result: must be one of 'value', 'standard_uncertainty', "
      "'expanded_uncertainty', 'relative_expanded_uncertainty', 'coverage_factor', 'effective_dof', "
