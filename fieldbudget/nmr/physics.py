@@ -203,8 +203,8 @@ def demag_cylinder_axial(length_over_diameter: float) -> float:
     (shape-function form; compare the chi = 0 magnetometric table of Chen,
     Brug & Goldfarb, IEEE Trans. Magn. 27, 3601 (1991)).  For g >= 0.1 the
     form (4/(3 pi) - int J1^2/x^2 exp(-2 g x) dx)/g is used, whose integrand is
-    damped; for flatter cylinders the integral is summed over half-periods of
-    the Bessel function and closed with its asymptotic tail 1/(pi x^3).
+    damped; for flatter cylinders the integral is summed over intervals of pi (the period of
+    J1^2) and closed with its asymptotic tail 1/(pi x^3).
     Accuracy about 1e-7.
     """
     return _demag_cylinder_axial(_finite("length_over_diameter", length_over_diameter, positive=True))
