@@ -38,6 +38,15 @@ def _unit(result: Any) -> str:
     return getattr(m, "unit", "") or ""
 
 
+_PAD = ' style="padding:0 0.5em"'
+_NUM = ' style="padding:0 0.5em;white-space:nowrap;text-align:right"'
+
+
+def _dof(nu: float | None) -> str:
+    """Degrees of freedom for the screen: 'inf', or at most three significant digits when large."""
+    return fmt(nu, 3) if nu is not None and math.isfinite(nu) and nu >= 1000 else fmt_dof(nu)
+
+
 def budget_table_html(result: Any) -> str:
     """The contributions table: one row per input, then the combined standard uncertainty."""
     qs = _inputs(result)
@@ -51,31 +60,40 @@ def budget_table_html(result: Any) -> str:
         qu = c.unit or ""
         share = c.variance_share
         cells = (c.symbol, f"{fmt(c.estimate, 10)} {qu}".strip(), format_u(c.standard_uncertainty, qu),
-                 c.description or c.distribution, fmt_dof(c.dof), fmt(c.sensitivity, 4),
+                 c.description or c.distribution, _dof(c.dof), fmt(c.sensitivity, 4),
                  format_u(c.u_contribution, unit), "" if share is None else f"{100 * share:.1f} %",
                  c.source or (getattr(q, "source", "") if q is not None else ""))
-        out.append(f'<tr class="fb-row-{escape(c.symbol)}">' + "".join(f"<td>{escape(x)}</td>" for x in cells)
+        out.append(f'<tr class="fb-row-{escape(c.symbol)}">'
+                   + "".join(f"<td{_NUM if 0 < i < 8 else _PAD}>{escape(x)}</td>" for i, x in enumerate(cells))
                    + "</tr>")
     out.append("</tbody><tfoot><tr>"
                f'<td colspan="6">combined standard uncertainty u<sub>c</sub></td>'
-               f'<td class="fb-uc">{escape(format_u(result.standard_uncertainty, unit))}</td>'
-               f'<td colspan="2">\u03bd<sub>eff</sub> = {escape(fmt_dof(result.effective_dof))}</td>'
+               f'<td class="fb-uc"{_NUM}>{escape(format_u(result.standard_uncertainty, unit))}</td>'
+               f'<td colspan="2">\u03bd<sub>eff</sub> = {escape(_dof(result.effective_dof))}</td>'
                "</tr></tfoot></table>")
     return "".join(out)
 
 
-def share_bars_html(result: Any, width_px: int = 260) -> str:
-    """Horizontal bars of each input's share of the variance of y (HTML only)."""
+_EIGHTHS = ("", "\u258f", "\u258e", "\u258d", "\u258c", "\u258b", "\u258a", "\u2589")
+
+
+def _bar(share: float, cells: int) -> str:
+    """A bar of block characters, to 1/8 of a character (survives any HTML sanitiser)."""
+    eighths = round(share * cells * 8)
+    return "\u2588" * (eighths // 8) + _EIGHTHS[eighths % 8]
+
+
+def share_bars_html(result: Any, cells: int = 40) -> str:
+    """A bar chart of each input's share of the variance of y, drawn with block characters."""
     rows = []
     for c in result.contributions:
         share = c.variance_share or 0.0
         share = 0.0 if not math.isfinite(share) else max(0.0, min(1.0, share))
-        px = round(share * width_px)
-        rows.append(f'<div class="fb-bar-row"><span class="fb-bar-label" style="display:inline-block;width:7em">'
-                    f'{escape(c.symbol)}</span><span class="fb-bar" style="display:inline-block;height:0.9em;'
-                    f'width:{px}px;background:#4a7ab5"></span> <span class="fb-bar-value">{100 * share:.1f} %'
-                    "</span></div>")
-    return '<div class="fb-share-chart"><b>share of the variance of the result</b>' + "".join(rows) + "</div>"
+        rows.append(f'<tr><td class="fb-bar-label">{escape(c.symbol)}</td>'
+                    f'<td class="fb-bar-value" style="text-align:right">{100 * share:.1f} %</td>'
+                    f'<td class="fb-bar" style="color:#4a7ab5;font-family:monospace">{_bar(share, cells)}</td></tr>')
+    return ('<table class="fb-share-chart"><caption style="text-align:left"><b>share of the variance of the '
+            'result</b></caption><tbody>' + "".join(rows) + "</tbody></table>")
 
 
 def _statement(result: Any) -> str:

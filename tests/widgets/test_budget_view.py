@@ -94,4 +94,12 @@ def test_format_u(x, text):
 
 
 def test_uc_cell_is_findable_by_class(draft):
-    assert re.search(r'<td class="fb-uc">[^<]+</td>', BudgetView(draft).table.value)
+    assert re.search(r'<td class="fb-uc"[^>]*>[^<]+</td>', BudgetView(draft).table.value)
+
+
+def test_bars_are_block_characters_proportional_to_share():
+    from fieldbudget.widgets.budget_view import _bar
+
+    assert _bar(1.0, 40) == "\u2588" * 40
+    assert _bar(0.5, 40) == "\u2588" * 20
+    assert _bar(1 / 320, 40) == "\u258f" and _bar(0.0, 40) == ""

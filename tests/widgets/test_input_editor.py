@@ -24,7 +24,7 @@ def views():
 
 
 def uc_text(view):
-    return re.search(r'class="fb-uc">([^<]*)<', view.table.value).group(1)
+    return re.search(r'class="fb-uc"[^>]*>([^<]*)<', view.table.value).group(1)
 
 
 def row_box(editor, i, key):
