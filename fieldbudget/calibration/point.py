@@ -555,6 +555,7 @@ class CalibrationSet:
             kj = k_idx[n] if k_idx else None
             pg = point_gum[n]
             pg_e = pg.results[0] if isinstance(pg, VectorResult) else pg
+            u2 = _second_order_u(self.point_budget(n), f"E_{n + 1}") if (own[j] & set(nonlinear)) else None
             pres.append(PointResult(
                 name=p.name, indication=p.indication, reference=self.reference_values[n],
                 error=float(est[j]), u_error=float(math.sqrt(cov[j, j])), gum=pg_e,
@@ -562,12 +563,29 @@ class CalibrationSet:
                 correction_factor=None if kj is None else float(est[kj]),
                 u_correction_factor=None if kj is None else float(math.sqrt(cov[kj, kj])),
                 gum_correction_factor=pg.results[1] if isinstance(pg, VectorResult) else None,
-                warnings=pg_e.warnings,
+                u_second_order=u2,
+                warnings=pg_e.warnings + (() if u2 is None else (
+                    f"with the second-order terms of JCGM 100:2008 5.1.2, u(E) = {u2:.3g} T against "
+                    f"{pg_e.standard_uncertainty:.3g} T at first order",)),
             ))
         e_cov = cov[np.ix_(e_idx, e_idx)]
         return CalibrationResult(instrument=self.instrument, points=tuple(pres), propagation=method,
                                  covariance_=tuple(map(tuple, e_cov.tolist())), budget=self._budget, gum=gum,
                                  monte_carlo=mc, resolution_t=self.resolution_t, warnings=tuple(notes))
+
+
+def _second_order_u(budget: Budget, output: str) -> float | None:
+    """u(E) with the second-order terms (JCGM 100:2008 5.1.2), or None where they do not apply
+    (correlated inputs)."""
+    from fieldbudget.engine.second_order import combined_uncertainty
+
+    if budget.has_correlations:
+        return None
+    try:
+        return float(combined_uncertainty(budget, output=output) if len(budget.model.outputs) > 1
+                     else combined_uncertainty(budget))
+    except InputError:
+        return None
 
 
 def _replace_name(p: CalibrationPoint, name: str) -> CalibrationPoint:
@@ -632,6 +650,7 @@ class PointResult:
     correction_factor: float | None = None
     u_correction_factor: float | None = None
     gum_correction_factor: BudgetResult | None = field(default=None, repr=False)
+    u_second_order: float | None = None
     warnings: tuple[str, ...] = ()
 
     # result-like view for conformity and CMC (estimate, standard_uncertainty, coverage_factor, ...)
@@ -672,7 +691,7 @@ class PointResult:
             "name": self.name, "indication": self.indication, "reference": self.reference,
             "error": self.error, "u": self.u_error, "U": self.expanded_uncertainty,
             "correction_factor": self.correction_factor, "u_correction_factor": self.u_correction_factor,
-            "gum": self.gum.to_dict(),
+            "u_second_order": self.u_second_order, "gum": self.gum.to_dict(),
             "mc": None if self.monte_carlo is None else self.monte_carlo.to_dict(),  # type: ignore[attr-defined]
             "warnings": list(self.warnings),
         }

@@ -75,6 +75,9 @@ def test_calibration_point_tilt_goes_through_monte_carlo_and_says_so():
     expect = math.hypot(gum.points[0].u_error, u_tilt)
     assert res.points[0].u_error == pytest.approx(expect, rel=0.02)
     assert res.points[0].u_error > gum.points[0].u_error * 1.5
+    # the second-order terms of JCGM 100:2008 5.1.2 (note) give the same u; the result says so
+    assert res.points[0].u_second_order == pytest.approx(expect, rel=0.02)
+    assert any("second-order terms" in w for w in res.points[0].warnings)
 
 
 # -- budget contents -------------------------------------------------------------------------------
