@@ -565,8 +565,8 @@ class CalibrationSet:
                 gum_correction_factor=pg.results[1] if isinstance(pg, VectorResult) else None,
                 u_second_order=u2,
                 warnings=pg_e.warnings + (() if u2 is None else (
-                    f"with the second-order terms of JCGM 100:2008 5.1.2, u(E) = {u2:.3g} T against "
-                    f"{pg_e.standard_uncertainty:.3g} T at first order",)),
+                    (f"with the second-order terms of JCGM 100:2008 5.1.2, u(E) = {u2:.3g} T against "
+                     f"{pg_e.standard_uncertainty:.3g} T at first order"),)),
             ))
         e_cov = cov[np.ix_(e_idx, e_idx)]
         return CalibrationResult(instrument=self.instrument, points=tuple(pres), propagation=method,
@@ -697,7 +697,20 @@ class PointResult:
         }
 
     def _repr_html_(self) -> str:
-        return _display.html_block(f"Calibration point {self.name}", self.gum._repr_html_())
+        rows = [("indication", f"{self.indication:.10g} T"), ("reference field", f"{self.reference:.10g} T"),
+                ("error E", f"{_display.fmt(self.error, 6)} T"), ("u(E)", f"{_display.fmt(self.u_error, 3)} T"),
+                ("U(E)", f"{_display.fmt(self.expanded_uncertainty, 3)} T"),
+                ("from", "Monte Carlo" if self.monte_carlo is not None else "GUM, first order")]
+        if self.u_second_order is not None:
+            rows.append(("u(E) with second-order terms", f"{_display.fmt(self.u_second_order, 3)} T"))
+        if self.correction_factor is not None:
+            rows.append(("correction factor K",
+                         f"{self.correction_factor:.10g} (u = {_display.fmt(self.u_correction_factor, 3)})"))
+        rows += [("warning", w) for w in self.warnings]
+        body = _display.html_table(("item", "value"), rows) + self.gum._repr_html_()
+        if self.monte_carlo is not None:
+            body += self.monte_carlo._repr_html_()  # type: ignore[attr-defined]
+        return _display.html_block(f"Calibration point {self.name}", body)
 
 
 @dataclass(frozen=True)
