@@ -15,7 +15,6 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from types import MappingProxyType
 
 import numpy as np
 
@@ -31,6 +30,27 @@ DOF_ROUNDING = ("truncate", "interpolate")
 _TOP_KEYS = {"model", "inputs", "measurand", "measurands", "correlations", "simultaneous", "coverage_probability",
              "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format"}
 FILE_FORMAT = "fieldbudget-budget/1"
+
+
+class FrozenMapping(dict):
+    """A dict that refuses changes (so a frozen Budget stays frozen) but pickles and copies."""
+
+    def _refuse(self, *args, **kwargs):
+        raise TypeError("budget metadata is read-only; use Budget.replace(metadata=...)")
+
+    __setitem__ = __delitem__ = clear = pop = popitem = setdefault = update = _refuse  # type: ignore[assignment]
+
+    def __reduce__(self):
+        return (FrozenMapping, (dict(self),))
+
+    def __copy__(self):
+        return self
+
+    def __deepcopy__(self, memo):
+        return FrozenMapping({k: __import__("copy").deepcopy(v, memo) for k, v in self.items()})
+
+    def __hash__(self):  # type: ignore[override]
+        return hash(tuple(sorted(self.items(), key=repr)))
 
 
 @dataclass(frozen=True)
@@ -150,7 +170,7 @@ class Budget:
             raise InputError("coverage_factor", k, "a finite number > 0")
         if self.dof_rounding not in DOF_ROUNDING:
             raise InputError("dof_rounding", self.dof_rounding, f"one of {DOF_ROUNDING}")
-        object.__setattr__(self, "metadata", MappingProxyType(dict(self.metadata)))
+        object.__setattr__(self, "metadata", FrozenMapping(self.metadata))
         # correlations
         corr = []
         seen: dict[frozenset, float] = {}

@@ -116,3 +116,15 @@ def test_to_dataframe(power_budget):
     df = evaluate(power_budget).to_dataframe()
     assert isinstance(df, pd.DataFrame) and list(df.index) == ["V", "R"]
     assert df.loc["V", "u_contribution"] == pytest.approx(0.002)
+
+
+def test_budget_and_result_pickle_and_deepcopy(power_budget):
+    import copy
+    import pickle
+
+    b = power_budget.replace(metadata={"codata": 2022})
+    r = evaluate(b)
+    assert pickle.loads(pickle.dumps(b)).to_dict() == b.to_dict()
+    assert copy.deepcopy(r).to_dict() == r.to_dict()
+    with pytest.raises(TypeError, match="read-only"):
+        b.metadata["codata"] = 2018
