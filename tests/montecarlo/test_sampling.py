@@ -130,3 +130,29 @@ def test_correlated_inputs_with_different_dof_are_refused():
                correlations=(("a", "b", 0.5),))
     with pytest.raises(InputError, match="degrees of freedom"):
         montecarlo.run(b, 10_000, seed=1)
+
+
+def test_readings_taken_together_are_drawn_as_a_multivariate_t():
+    # Inputs observed simultaneously (JCGM 100:2008 5.2.3, H.2) are correlated with the readings' sample
+    # correlation and keep the t marginals of JCGM 101 6.4.9 (n - 1 dof, scale s / sqrt(n)): one chi-square
+    # draw shared by the group.  Standard errors (M draws, nu = 7 so that fourth moments exist):
+    #   s.d. of a t marginal: sigma = scale sqrt(nu / (nu - 2)), SE = sigma sqrt((kappa - 1) / (4 M)) with the
+    #   kurtosis kappa = 3 + 6 / (nu - 4);  correlation coefficient of an elliptical pair: SE = sqrt(1 + k)
+    #   (1 - r^2) / sqrt(M) with the kurtosis parameter k = 2 / (nu - 4) (Muirhead 1982, ch. 5; from memory).
+    va = [5.007, 4.994, 5.005, 4.990, 4.999, 5.002, 4.996, 5.010]
+    vb = [19.663, 19.639, 19.640, 19.685, 19.678, 19.660, 19.651, 19.690]
+    b = Budget(model="a / b", inputs=(InputQuantity.from_readings("a", va), InputQuantity.from_readings("b", vb)),
+               simultaneous=(("a", "b"),))
+    m = 400_000
+    plan = montecarlo._plan(b)
+    x = np.empty((2, m))
+    montecarlo._fill_chunk(plan, 8, 0, m // montecarlo.BLOCK_SIZE, m, x)
+    nu = len(va) - 1
+    r = np.corrcoef(va, vb)[0, 1]
+    k = 2 / (nu - 4)
+    assert np.corrcoef(x)[0, 1] == pytest.approx(r, abs=4 * math.sqrt(1 + k) * (1 - r * r) / math.sqrt(m))
+    kappa = 3 + 6 / (nu - 4)
+    for row, v in zip(x, (va, vb)):
+        sigma = np.std(v, ddof=1) / math.sqrt(len(v)) * math.sqrt(nu / (nu - 2))
+        assert row.mean() == pytest.approx(np.mean(v), abs=4 * sigma / math.sqrt(m))
+        assert row.std() == pytest.approx(sigma, abs=4 * sigma * math.sqrt((kappa - 1) / (4 * m)))
