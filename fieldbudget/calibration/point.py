@@ -338,6 +338,7 @@ class CalibrationSet:
         notes: list[str] = []
         shared_seen: dict[str, InputQuantity] = {}
         carried: list[tuple[int, str, BudgetResult]] = []
+        ref_symbols: set[str] = set()
         ref_values: list[float] = []
 
         def add(q: InputQuantity) -> None:
@@ -377,6 +378,7 @@ class CalibrationSet:
                 if unit not in ("", "T"):
                     raise InputError("reference unit", unit, "'T' (give the NMR field in tesla)", pw)
                 share = set(self.shared) | {q.symbol for q in rb.inputs if q.reference}
+                ref_symbols.update(q.symbol for q in rb.inputs)
                 mapping: dict[str, str] = {}
                 for q in rb.inputs:
                     if q.symbol in share:
@@ -414,6 +416,7 @@ class CalibrationSet:
                                                    f"{rr.estimate:.10g} T, u = {rr.standard_uncertainty:.3g} T",
                                   description=f"reference field at point {p.name}"))
                 carried.append((i, f"Bref_{i}", rr))
+                ref_symbols.update(c.symbol for c in rr.contributions)
                 bref = f"Bref_{i}"
                 ref_values.append(rr.estimate)
 
@@ -448,6 +451,9 @@ class CalibrationSet:
                 add(InputQuantity(f"G_{i}", p.gradient_t_per_m, Normal(u=p.u_gradient_t_per_m), unit="T/m",
                                   description="field gradient between NMR sample and Hall element"))
                 seen_field = f"({bref} + G_{i} * dz_pos)"
+            elif p.gradient_t_per_m or p.u_gradient_t_per_m:
+                notes.append(f"point {p.name}: a gradient is given but no position difference between the NMR "
+                             "sample and the Hall element, so it has no effect")
             if self.tilt_u_rad:
                 th = "theta"
                 if self.tilt_per_point:
@@ -461,6 +467,10 @@ class CalibrationSet:
                 outputs[f"K_{i}"] = f"{seen_field} / ({ind})"
                 measurands.append(Measurand(f"K_{i}", "", f"correction factor B_ref/B_ind at point {p.name}"))
 
+        unknown = [s for s in self.shared if s not in ref_symbols]
+        if unknown:
+            raise InputError("shared", unknown[0], f"an input symbol of the reference budgets "
+                             f"({', '.join(sorted(ref_symbols))})", where)
         # duplicate reference points (exact equality of the reference field estimates)
         for a in range(len(ref_values)):
             for b in range(a + 1, len(ref_values)):

@@ -314,3 +314,23 @@ def test_definition_forms():
     d = json.loads(json.dumps(cs.to_dict()))
     assert d["budget"]["model"]["E_1"].startswith("(R_1 + dres_1)")
     assert "<table" in cs._repr_html_()
+
+
+def test_unknown_shared_symbol_and_ignored_terms_are_reported():
+    p = CalibrationPoint(nmr_budget(1.0), readings_t=[1.0, 1.0], pooled_sd_t=1e-6, gradient_t_per_m=0.1)
+    with pytest.raises(InputError) as e:
+        CalibrationSet([p], resolution_t=1e-5, shared=("d_freq",))
+    assert e.value.field == "shared" and "d_fs" in str(e.value)
+    res = CalibrationSet([p], resolution_t=1e-5).evaluate("gum")
+    assert any("gradient is given but no position difference" in w for w in res.warnings)
+
+
+def test_linear_point_budget_matches_root_sum_of_squares():
+    # No nonlinear terms: u^2(E) = s^2(R)/n + (digit/2)^2/3 + u^2(B_ref) (JCGM 100:2008 eq. (10), by hand)
+    readings = _readings(1.0)
+    res = CalibrationSet([CalibrationPoint(nmr_budget(1.0), readings_t=readings)], resolution_t=1e-5).evaluate()
+    assert res.propagation.startswith("GUM")
+    u_ref = evaluate(nmr_budget(1.0)).standard_uncertainty
+    u2 = np.var(readings, ddof=1) / len(readings) + (0.5e-5) ** 2 / 3 + u_ref**2
+    assert res.points[0].u_error == pytest.approx(math.sqrt(u2), rel=1e-12)
+    assert res.points[0].error == pytest.approx(np.mean(readings) - evaluate(nmr_budget(1.0)).estimate, rel=1e-12)
