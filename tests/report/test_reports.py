@@ -193,3 +193,12 @@ def test_cli_record_verify_compare_report(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "truncated" in err
     assert _cli("report", str(rec2), "-o", str(tmp_path / "r.docx")) == 2
+
+
+def test_pdf_without_chromium_is_a_clear_error(monkeypatch, nmr_record):
+    from fieldbudget.errors import FieldbudgetError
+    from fieldbudget.report import pdf
+
+    monkeypatch.setattr(pdf, "find_chromium", lambda: None)
+    with pytest.raises(FieldbudgetError, match="the PDF report needs chromium, which was not found"):
+        render(nmr_record, "pdf")
