@@ -415,8 +415,8 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         M, the number of trials (default 10^6, JCGM 101 7.2.1).  Ignored when
         ``adaptive``.
     seed : int, optional
-        Seed of ``numpy.random.SeedSequence``; when omitted a fresh one is drawn
-        from the operating system's entropy and recorded in the result.
+        Seed of ``numpy.random.SeedSequence``; when omitted a fresh one (63 bits)
+        is drawn from the operating system's entropy and recorded in the result.
     adaptive : bool
         Run the adaptive procedure of JCGM 101 7.9.4 instead of a fixed M.
     coverage_probability : float, optional
@@ -446,7 +446,9 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
     else:
         chunk_blocks = max(1, -(-_positive_int("chunk_size", chunk_size) // BLOCK_SIZE))
     if seed is None:
-        seed = int(np.random.SeedSequence().entropy)
+        # 63 of the 128 bits of fresh OS entropy: enough to never repeat, and it fits a signed 64-bit
+        # integer in JSON records and other tools.
+        seed = int(np.random.SeedSequence().entropy) & (2**63 - 1)
     elif isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
         raise InputError("seed", seed, "an integer >= 0", _WHERE)
     seed = int(seed)
