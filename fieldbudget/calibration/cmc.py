@@ -120,6 +120,17 @@ class BestMeasurement:
             raise InputError("result", type(result).__name__,
                              "a result with .estimate and .expanded_uncertainty", _WHERE) from None
 
+    @classmethod
+    def from_point(cls, point: object, source: str = "") -> BestMeasurement:
+        """From a calibration point result: the field is its reference value, U that of its error."""
+        try:
+            value = float(point.reference)  # type: ignore[attr-defined]
+            big_u = float(point.expanded_uncertainty)  # type: ignore[attr-defined]
+        except (AttributeError, TypeError):
+            raise InputError("point", type(point).__name__, "a calibration point result", _WHERE) from None
+        p = float(getattr(point, "coverage_probability", 0.9545) or 0.9545)
+        return cls(value, big_u, p, source or f"calibration point {getattr(point, 'name', '')}".strip())
+
     def to_dict(self) -> dict:
         return {"value": self.value, "U": self.expanded_uncertainty,
                 "coverage_probability": self.coverage_probability, "source": self.source}
@@ -283,8 +294,9 @@ def build_cmc_table(
 
     Parameters
     ----------
-    measurements : iterable of BestMeasurement or engine results
-        Engine results are converted with :meth:`BestMeasurement.from_result`.
+    measurements : iterable of BestMeasurement, engine results or calibration point results
+        Engine results are converted with :meth:`BestMeasurement.from_result`,
+        calibration point results with :meth:`BestMeasurement.from_point`.
     ranges : sequence of (lower, upper)
         Closed field ranges in ``unit`` (magnitudes, ``0 <= lower < upper``), not overlapping.
     measurand, method : str
@@ -301,7 +313,9 @@ def build_cmc_table(
         raise InputError("form", form, f"one of {', '.join(repr(f) for f in CMC_FORMS)}", _WHERE)
     if not isinstance(digits, int) or digits < 1:
         raise InputError("digits", digits, "an integer >= 1", _WHERE)
-    pts = tuple(m if isinstance(m, BestMeasurement) else BestMeasurement.from_result(m) for m in measurements)
+    pts = tuple(m if isinstance(m, BestMeasurement)
+                else BestMeasurement.from_point(m) if hasattr(m, "reference") and hasattr(m, "error")
+                else BestMeasurement.from_result(m) for m in measurements)
     if not pts:
         raise InputError("measurements", 0, "at least one best measurement", _WHERE)
     rs: list[tuple[float, float]] = []

@@ -334,3 +334,14 @@ def test_linear_point_budget_matches_root_sum_of_squares():
     u2 = np.var(readings, ddof=1) / len(readings) + (0.5e-5) ** 2 / 3 + u_ref**2
     assert res.points[0].u_error == pytest.approx(math.sqrt(u2), rel=1e-12)
     assert res.points[0].error == pytest.approx(np.mean(readings) - evaluate(nmr_budget(1.0)).estimate, rel=1e-12)
+
+
+def test_cmc_from_point_results():
+    from fieldbudget.calibration import build_cmc_table
+
+    res = _set().evaluate("gum")
+    t = build_cmc_table(res.points, [(0.2, 2.0)], measurand="B", method="teslameter vs NMR")
+    (e,) = t.entries
+    assert [p.value for p in e.points] == [p.reference for p in res.points]
+    for p in res.points:
+        assert e.uncertainty_at(p.reference) >= p.expanded_uncertainty * (1 - 1e-12)
