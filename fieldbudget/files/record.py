@@ -456,9 +456,11 @@ def _as_budget(budget: Any):
     raise InputError("budget", type(budget).__name__, "an engine Budget or budget file content (a dict)", "make_record")
 
 
-def _run_monte_carlo(budget, trials: int, seed: int):
+def _run_monte_carlo(budget, trials: int, seed: int, adaptive: bool = False):
     from ..engine import montecarlo
 
+    if adaptive:  # the adaptive procedure (JCGM 101 7.9.4) picks M itself from the same seed
+        return montecarlo.run(budget, seed=seed, adaptive=True)
     return montecarlo.run(budget, trials=trials, seed=seed)
 
 
@@ -836,7 +838,7 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
     else:
         mc = record.monte_carlo
         try:
-            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"])).to_dict()
+            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive"))).to_dict()
         except FieldbudgetError as err:
             checks.append(Check("Monte Carlo", "fail", f"re-run failed: {err}"))
         else:

@@ -202,3 +202,24 @@ def test_pdf_without_chromium_is_a_clear_error(monkeypatch, nmr_record):
     monkeypatch.setattr(pdf, "find_chromium", lambda: None)
     with pytest.raises(FieldbudgetError, match="the PDF report needs chromium, which was not found"):
         render(nmr_record, "pdf")
+
+
+def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
+    """An NMR measurement file (invented lab) -> budget -> record -> report: the chain names the
+    counter, the frequency standard with its certificate, and the CODATA edition of gamma'_p."""
+    from pathlib import Path
+
+    from fieldbudget.files.record import verify_record, save_record
+    from fieldbudget.nmr import NMRMeasurement
+
+    data = Path(__file__).resolve().parents[1] / "nmr" / "data" / "water_cylinder_1p5T.json"
+    if not data.exists():
+        pytest.skip(f"{data} is not there")
+    m = NMRMeasurement.from_file(data)
+    rec = make_record(m.to_budget(), created_utc=STAMP)
+    assert rec.codata_edition == m.codata
+    trace = {t.what: t.how for t in build_report_data(rec).trace}
+    assert "calibration certificate BFSL-F-2291" in trace["f_read"]
+    assert "traceable to the SI second through the frequency standard" in trace["f_read"]
+    assert trace["gamma_p_sh"].startswith(f"CODATA {m.codata} recommended value 'shielded proton gyromag. ratio")
+    assert verify_record(save_record(rec, tmp_path / "nmr.record.json")).passed
