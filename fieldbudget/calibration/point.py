@@ -566,6 +566,11 @@ class CalibrationSet:
             pg = point_gum[n]
             pg_e = pg.results[0] if isinstance(pg, VectorResult) else pg
             u2 = _second_order_u(self.point_budget(n), f"E_{n + 1}") if (own[j] & set(nonlinear)) else None
+            if mcs:
+                # JCGM 101:2008 clause 8: is the first-order GUM result good enough at this point?
+                from fieldbudget.engine.validation import validate
+
+                pg_e = pg_e.with_monte_carlo(mcs[j], validate(pg_e, mcs[j]))
             pres.append(PointResult(
                 name=p.name, indication=p.indication, reference=self.reference_values[n],
                 error=float(est[j]), u_error=float(math.sqrt(cov[j, j])), gum=pg_e,
@@ -685,6 +690,17 @@ class PointResult:
         return self.gum.coverage_probability
 
     @property
+    def validation(self) -> object | None:
+        """JCGM 101:2008 clause 8 comparison of the first-order GUM result with Monte Carlo, if run."""
+        return self.gum.validation
+
+    def rounded(self, rule: str = "gum", significant_digits: int = 2) -> object:
+        """E and U(E) rounded for the certificate (engine rounding: JCGM 100:2008 7.2.6, or EA-4/02)."""
+        from fieldbudget.engine import round_result
+
+        return round_result(self.error, self.expanded_uncertainty, rule, significant_digits)
+
+    @property
     def expanded_uncertainty(self) -> float:
         """k u(E) with the GUM coverage factor of the point (or the Monte Carlo interval's half-width)."""
         if self.monte_carlo is not None:
@@ -755,6 +771,20 @@ class CalibrationResult:
     def indications(self) -> tuple[float, ...]:
         return tuple(p.indication for p in self.points)
 
+    def certificate_rows(self, rule: str = "gum") -> list[dict]:
+        """One row per point for a calibration certificate: reference, indication, error and U(E),
+        rounded (U to two significant digits, the error to match; JCGM 100:2008 7.2.6 or EA-4/02)."""
+        rows = []
+        for p in self.points:
+            r = p.rounded(rule)
+            k = p.expanded_uncertainty / p.u_error if p.u_error > 0 else None
+            rows.append({"point": p.name, "reference_T": p.reference, "indication_T": p.indication,
+                         "error_T": r.value_text, "U_T": r.uncertainty_text,
+                         "k": None if k is None else round(k, 2),
+                         "correction_factor": p.correction_factor,
+                         "gum_validated": None if p.validation is None else bool(p.validation.passed)})
+        return rows
+
     @property
     def errors(self) -> tuple[float, ...]:
         return tuple(p.error for p in self.points)
@@ -796,6 +826,7 @@ class CalibrationResult:
             "points": [p.to_dict() for p in self.points],
             "covariance": [list(r) for r in self.covariance_],
             "correlation": self.correlation.tolist(),
+            "certificate_rows": self.certificate_rows(),
             "warnings": list(self.warnings),
         }
 

@@ -75,6 +75,9 @@ def test_calibration_point_tilt_goes_through_monte_carlo_and_says_so():
     expect = math.hypot(gum.points[0].u_error, u_tilt)
     assert res.points[0].u_error == pytest.approx(expect, rel=0.02)
     assert res.points[0].u_error > gum.points[0].u_error * 1.5
+    # JCGM 101:2008 clause 8: the first-order GUM interval is not validated by Monte Carlo here
+    assert res.points[0].validation is not None and not res.points[0].validation.passed
+    assert gum.points[0].validation is None
     # the second-order terms of JCGM 100:2008 5.1.2 (note) give the same u; the result says so
     assert res.points[0].u_second_order == pytest.approx(expect, rel=0.02)
     assert any("second-order terms" in w for w in res.points[0].warnings)
@@ -345,3 +348,18 @@ def test_cmc_from_point_results():
     assert [p.value for p in e.points] == [p.reference for p in res.points]
     for p in res.points:
         assert e.uncertainty_at(p.reference) >= p.expanded_uncertainty * (1 - 1e-12)
+
+
+def test_linear_points_validated_by_monte_carlo_and_certificate_rows():
+    # linear model, normal inputs with large dof: JCGM 101 clause 8 validates the GUM result
+    pts = [CalibrationPoint(nmr_budget(b), readings_t=[b * 1.0002, b * 1.0002], pooled_sd_t=2e-6,
+                            pooled_dof=200) for b in (0.5, 1.0)]
+    res = CalibrationSet(pts, resolution_t=1e-7).evaluate("monte carlo", seed=2, trials=200_000)
+    assert all(p.validation.passed for p in res.points)
+    rows = res.certificate_rows()
+    assert rows[0]["point"] == "P1" and rows[0]["gum_validated"] is True
+    # U to two significant digits, the error to the same decimal place (JCGM 100:2008 7.2.6)
+    u_txt, e_txt = rows[1]["U_T"], rows[1]["error_T"]
+    assert len(u_txt.replace("0.", "").lstrip("0")) == 2
+    assert len(e_txt.split(".")[1]) == len(u_txt.split(".")[1])
+    json.dumps(res.to_dict())
