@@ -526,6 +526,9 @@ def _run_blocks(plan, seed, total, first_block, end_block, chunk_blocks, workers
                 b0 = next(it, None)
                 if b0 is None:
                     break
+                if should_stop is not None and should_stop():
+                    cancelled = True
+                    break
                 pending.add(pool.submit(job, b0))
             if not pending:
                 break
@@ -536,8 +539,6 @@ def _run_blocks(plan, seed, total, first_block, end_block, chunk_blocks, workers
                 done += n
                 if progress is not None:
                     progress(done, planned)
-            if should_stop is not None and should_stop():
-                cancelled = True
         if cancelled:
             wait(pending)
             raise MonteCarloCancelled(done + sum(f.result()[0] for f in pending))
@@ -577,13 +578,12 @@ def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, w
             for o in range(n_out):
                 y = values[o, lo_:hi_]
                 stats[o].append((float(np.mean(y)), float(np.std(y, ddof=1)), *_sym_ends(y, p)))
-            if h >= 2 and _stable(values[:, :h * stage], stats, h, significant_digits):
+            if h >= 2 and _stable(stats, h, stage, significant_digits):
                 stabilised = True
                 break
         done = h * stage
         if not stabilised and h >= 2:
-            planned = min(cap, max(done + stage, _stages_needed(values[:, :done], stats, h, significant_digits)
-                                   * stage))
+            planned = min(cap, max(done + stage, _stages_needed(stats, h, stage, significant_digits) * stage))
         else:
             planned = done if stabilised else max(planned, done + stage)
         if progress is not None:
@@ -596,20 +596,28 @@ def _stage_spread(stats_o, h) -> np.ndarray:
     return np.sqrt(np.sum((a - a.mean(axis=0)) ** 2, axis=0) / (h * (h - 1)))
 
 
-def _stable(values, stats, h, digits) -> bool:
-    for o in range(values.shape[0]):
-        delta = numerical_tolerance(float(np.std(values[o], ddof=1)), digits)
-        if np.any(2.0 * _stage_spread(stats[o], h) > delta):
+def _pooled_u(stats_o, h: int, n: int) -> float:
+    """u(y) of all h n values from the stages' means and standard deviations (equal stage sizes n)."""
+    a = np.asarray(stats_o[:h], dtype=np.float64)
+    means, sds = a[:, 0], a[:, 1]
+    ss = np.sum((n - 1) * sds**2) + n * np.sum((means - means.mean()) ** 2)
+    return float(math.sqrt(ss / (h * n - 1)))
+
+
+def _stable(stats, h, stage, digits) -> bool:
+    for stats_o in stats:
+        delta = numerical_tolerance(_pooled_u(stats_o, h, stage), digits)
+        if np.any(2.0 * _stage_spread(stats_o, h) > delta):
             return False
     return True
 
 
-def _stages_needed(values, stats, h, digits) -> int:
+def _stages_needed(stats, h, stage, digits) -> int:
     """Rough number of stages after which 2 s <= delta, since s falls as 1/sqrt(h) (for progress only)."""
     need = h + 1
-    for o in range(values.shape[0]):
-        delta = numerical_tolerance(float(np.std(values[o], ddof=1)), digits)
-        s = float(np.max(_stage_spread(stats[o], h)))
+    for stats_o in stats:
+        delta = numerical_tolerance(_pooled_u(stats_o, h, stage), digits)
+        s = float(np.max(_stage_spread(stats_o, h)))
         if delta > 0:
             need = max(need, math.ceil(h * (2.0 * s / delta) ** 2))
     return need

@@ -145,9 +145,18 @@ def test_progress_and_cancellation():
 
 
 def test_cancellation_with_workers_reports_trials_done():
+    calls = []
+
+    def stop():
+        calls.append(1)
+        return len(calls) > 3          # polled before each chunk is started
+
     with pytest.raises(MonteCarloCancelled) as err:
-        run(_nonlinear_budget(), 200_000, seed=1, chunk_size=10_000, workers=2, should_stop=lambda: True)
-    assert 0 < err.value.trials_done < 200_000 and err.value.trials_done % 10_000 == 0
+        run(_nonlinear_budget(), 200_000, seed=1, chunk_size=10_000, workers=2, should_stop=stop)
+    assert err.value.trials_done == 30_000
+    with pytest.raises(MonteCarloCancelled) as err:
+        run(_nonlinear_budget(), 200_000, seed=1, workers=2, should_stop=lambda: True)
+    assert err.value.trials_done == 0
 
 
 def test_non_finite_model_values_are_an_error_not_a_number():
