@@ -8,8 +8,10 @@ test can drive them without a browser.
 from __future__ import annotations
 
 from .budget_draft import DISTRIBUTIONS, MEANINGS, ROW_KEYS, BudgetDraft, InputRow
+from .calibration_draft import CalibrationDraft
 from .field import Field, message_for
 from .mc_job import MonteCarloJob
+from .nmr_draft import NMRDraft
 
 __all__ = ["Field", "message_for", "BudgetDraft", "InputRow", "DISTRIBUTIONS", "MEANINGS", "ROW_KEYS",
-           "MonteCarloJob"]
+           "MonteCarloJob", "NMRDraft", "CalibrationDraft"]

@@ -15,18 +15,15 @@ Stable CSS classes for style sheets and the browser test: ``fb-app``,
 
 from __future__ import annotations
 
-from .app import App, app, budget_app, nmr_app
+from .app import App, app, budget_app, calibration_app, nmr_app
 from .budget_view import BudgetView
 from .export_bar import ExportBar
 from .input_editor import InputEditor
 from .montecarlo_panel import MonteCarloPanel
 from .nmr_form import NMRForm
 
-__all__ = ["App", "app", "budget_app", "nmr_app", "BudgetView", "ExportBar", "InputEditor", "MonteCarloPanel",
+__all__ = ["App", "app", "budget_app", "calibration_app", "nmr_app", "BudgetView", "ExportBar", "InputEditor", "MonteCarloPanel",
            "NMRForm"]
-try:  # the calibration form exists once the calibration layer does
-    from .calibration_form import CalibrationForm  # noqa: F401
+from .calibration_form import CalibrationForm  # noqa: E402
 
-    __all__.append("CalibrationForm")
-except ImportError:
-    pass
+__all__.append("CalibrationForm")

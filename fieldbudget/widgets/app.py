@@ -31,7 +31,7 @@ from .input_editor import InputEditor
 from .montecarlo_panel import MonteCarloPanel
 from .nmr_form import NMRForm
 
-__all__ = ["App", "app", "budget_app", "nmr_app"]
+__all__ = ["App", "app", "budget_app", "nmr_app", "calibration_app"]
 
 _LIVE: "weakref.WeakValueDictionary[int, App]" = weakref.WeakValueDictionary()
 
@@ -109,6 +109,15 @@ def nmr_app(measurement: Any = None, *, title: str = "", **kwargs) -> App:
         data, base = _load(measurement or {})
         draft = NMRDraft(data, base_dir=base or ".")
     return App(draft, NMRForm(draft), title=title or str(draft.base.get("title", "")), **kwargs)
+
+
+def calibration_app(points: Any = (), settings: Any = None, *, title: str = "", **kwargs) -> App:
+    """An app over a calibration: points and settings (see :class:`CalibrationDraft`), or a draft."""
+    from ..drafts.calibration_draft import CalibrationDraft
+    from .calibration_form import CalibrationForm
+
+    draft = points if isinstance(points, CalibrationDraft) else CalibrationDraft(points, settings)
+    return App(draft, CalibrationForm(draft), title=title or draft.settings["instrument"].text, **kwargs)
 
 
 def app(budget: Any = None, *, nmr: Any = None, title: str = "", **kwargs) -> App:
