@@ -467,6 +467,11 @@ class CalibrationSet:
                 outputs[f"K_{i}"] = f"{seen_field} / ({ind})"
                 measurands.append(Measurand(f"K_{i}", "", f"correction factor B_ref/B_ind at point {p.name}"))
 
+        if carried and len(carried) < len(self.points):
+            # a merged budget and a carried-in result cannot share inputs, so their correlation would be lost
+            raise InputError("reference", "budgets and results mixed",
+                             "the same kind at every point: all budgets (or NMR results), or all BudgetResults",
+                             where)
         unknown = [s for s in self.shared if s not in ref_symbols]
         if unknown:
             raise InputError("shared", unknown[0], f"an input symbol of the reference budgets "

@@ -363,3 +363,10 @@ def test_linear_points_validated_by_monte_carlo_and_certificate_rows():
     assert len(u_txt.replace("0.", "").lstrip("0")) == 2
     assert len(e_txt.split(".")[1]) == len(u_txt.split(".")[1])
     json.dumps(res.to_dict())
+
+
+def test_mixed_reference_kinds_refused():
+    pts = [CalibrationPoint(nmr_budget(0.5), readings_t=[0.5, 0.5]),
+           CalibrationPoint(evaluate(nmr_budget(1.0)), readings_t=[1.0, 1.0])]
+    with pytest.raises(InputError, match="the same kind at every point"):
+        CalibrationSet(pts, resolution_t=1e-5)
