@@ -426,10 +426,28 @@ def _edition_of(content: Mapping) -> int | None:
             return v
         if isinstance(v, str) and v.strip().isdigit():
             return int(v.strip())
-    if any(i.get("reference") for i in _inputs_by_symbol(content).values()):
-        from ..constants import DEFAULT_EDITION
-        return int(DEFAULT_EDITION)
-    return None
+    return _edition_from_values(content)
+
+
+def _edition_from_values(content: Mapping) -> int | None:
+    """The newest edition whose tabulated values equal every CODATA-referenced estimate, if any.
+
+    A budget without an edition in its metadata still says which table its
+    reference values came from, by the values themselves.
+    """
+    refs = [(q["reference"], q.get("value")) for q in _inputs_by_symbol(content).values() if q.get("reference")]
+    if not refs:
+        return None
+    from ..constants import editions, lookup
+
+    matching = []
+    for ed in editions():
+        try:
+            if all(lookup(name, edition=ed).value == value for name, value in refs):
+                matching.append(int(ed))
+        except FieldbudgetError:
+            continue
+    return max(matching) if matching else None
 
 
 def _procedure_dict(procedure: Any) -> dict | None:

@@ -216,7 +216,7 @@ def _trace_chain(budget: Mapping, gum: Mapping, edition: int | None, equation: s
         src = _text(spec.get("source"))
         ref = spec.get("reference")
         if ref:
-            ed = f"CODATA {edition}" if edition is not None else "CODATA"
+            ed = f"CODATA {edition}" if edition is not None else "CODATA (edition not identified)"
             extra = ", ".join(_text(x) for x in (nucleus, condition) if x)
             links.append(TraceLink(sym, f"{ed} recommended value '{ref}' = {fmt(_float(spec.get('value')), 12)} "
                                         f"{unit}".rstrip() + (f" ({extra})" if extra else "")))

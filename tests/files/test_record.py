@@ -253,3 +253,43 @@ def test_compare_without_codata_inputs_changes_nothing():
     cmp = compare_editions(rec, 2018)
     assert cmp.delta_value == 0.0 and cmp.inputs == ()
     assert "nothing changes" in cmp.report()
+
+
+@pytest.mark.parametrize("edition", [2014, 2018, 2022])
+def test_codata_edition_is_found_from_the_values_when_the_metadata_has_none(edition):
+    b = nmr_budget(edition)
+    del b["metadata"]
+    assert make_record(b, created_utc=STAMP).codata_edition == edition
+    b["inputs"]["gp"]["value"] = 42.5  # a value that is in no edition's table
+    assert make_record(b, created_utc=STAMP).codata_edition is None
+
+
+def test_a_budget_with_several_measurands_is_refused_with_a_clear_message():
+    b = mixed_budget()
+    del b["measurand"]
+    b["model"] = {"K": "a + b", "L": "c * d"}
+    b["measurands"] = {"K": {"unit": "1"}, "L": {"unit": "1"}}
+    with pytest.raises(InputError, match="a budget with one measurand"):
+        make_record(b)
+
+
+# -- canonical serialisation: properties ---------------------------------------------------------
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_json = st.recursive(
+    st.none() | st.booleans() | st.integers(-(2**53), 2**53) | st.floats(allow_nan=False, allow_infinity=False)
+    | st.text(max_size=12),
+    lambda inner: st.lists(inner, max_size=4) | st.dictionaries(st.text(max_size=6), inner, max_size=4),
+    max_leaves=20,
+)
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.dictionaries(st.text(max_size=6), _json, max_size=6))
+def test_canonical_form_round_trips_exactly_and_ignores_key_order(doc):
+    data = canonical_bytes(doc)
+    assert json.loads(data.decode("utf-8")) == doc  # floats come back bit for bit (repr round trip)
+    reordered = dict(reversed(list(doc.items())))
+    assert canonical_bytes(reordered) == data

@@ -278,3 +278,15 @@ def test_saved_text_is_the_canonical_indented_form(saved):
     path, data = saved
     assert data.decode("utf-8") == serialise(load_record(path))
     assert data.endswith(b"\n")
+
+
+def test_byte_changes_between_the_fields_are_caught_too(saved, tmp_path):
+    """Whitespace, quotes, brackets and key names: the file-form check sees any byte that moved
+    (a sample of every 53rd byte of the file)."""
+    path, data = saved
+    target = tmp_path / "tampered.json"
+    for pos in range(0, len(data), 53):
+        flipped = bytearray(data)
+        flipped[pos] ^= 0x01
+        target.write_bytes(bytes(flipped))
+        assert _caught(target), f"byte {pos} ({data[pos:pos + 1]!r}) changed unnoticed"
