@@ -278,6 +278,10 @@ def _from_result(result: object) -> tuple[float, float, float, float | None]:
         raise InputError("result", type(result).__name__,
                          "a result with .estimate and .standard_uncertainty", _WHERE) from None
     k = getattr(result, "coverage_factor", None)
+    interval = getattr(result, "interval", None)
+    if k is None and interval is not None and u > 0:
+        # a Monte Carlo result: U is half the probabilistically symmetric interval (JCGM 101:2008 7.7)
+        k = 0.5 * (float(interval[1]) - float(interval[0])) / u
     nu = getattr(result, "effective_dof", None)
     return y, u, (2.0 if k is None else float(k)), (None if nu is None else float(nu))
 

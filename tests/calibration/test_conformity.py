@@ -97,3 +97,13 @@ def test_from_engine_result_and_forms():
     html = Tolerance.symmetric(0.0, 5e-4, "T", source="<b>")._repr_html_()
     assert "&lt;b&gt;" in html and "<b>" not in html
     assert "conformity" in res._repr_html_().lower()
+
+
+def test_monte_carlo_result_gives_its_interval_as_U():
+    # JCGM 101:2008 7.7: U is taken as half the probabilistically symmetric interval of the MC result
+    from fieldbudget.engine import Budget, InputQuantity, Normal, montecarlo
+
+    mc = montecarlo.run(Budget(model="x", inputs=(InputQuantity("x", 0.3, Normal(u=0.4)),)), 100_000, seed=3)
+    res = assess_conformity(Tolerance(-2.0, 2.0), mc, rule="guarded acceptance")
+    assert res.guard_band == pytest.approx(0.5 * (mc.interval[1] - mc.interval[0]), rel=1e-12)
+    assert res.coverage_factor == pytest.approx(2.0, abs=0.03)  # normal: k = 2 at p = 95.45 %
