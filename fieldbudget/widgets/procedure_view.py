@@ -266,7 +266,7 @@ class ProcedureView:
         return f"<ProcedureView over {self.run!r}>"
 
 
-def procedure_app(path: str | os.PathLike, *, training: bool = False) -> ProcedureView:
+def procedure_app(path: str | os.PathLike, *, training: bool = False) -> ProcedureView | w.HTML:
     """Build the guided app from a procedure file: the one call a template notebook makes.
 
     Parameters
@@ -275,5 +275,14 @@ def procedure_app(path: str | os.PathLike, *, training: bool = False) -> Procedu
         The lab's procedure file (TOML, ``fieldbudget-procedure/1``).
     training : bool
         Start with training mode on.
+
+    Returns
+    -------
+    ProcedureView, or an ``HTML`` widget (CSS class ``fb-proc-error``) with the
+    one-line message when the file cannot be used: a mistake in a procedure
+    file is shown as a message, not as a traceback.
     """
-    return ProcedureView(ProcedureRun(load_procedure(path), training=training))
+    try:
+        return ProcedureView(ProcedureRun(load_procedure(path), training=training))
+    except FieldbudgetError as err:
+        return css(w.HTML(status_html(f"The procedure cannot be shown: {err}")), "fb-proc-error")

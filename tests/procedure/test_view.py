@@ -16,7 +16,7 @@ READINGS = "42576412.31\n42576412.18\n42576412.27\n42576412.22\n42576412.35"
 
 
 def _uc_cell(view: ProcedureView) -> str:
-    m = re.search(r'<td class="fb-uc">([^<]*)</td>', view.budget.table.value)
+    m = re.search(r'<td class="fb-uc"[^>]*>([^<]*)</td>', view.budget.table.value)
     return m.group(1) if m else ""
 
 
@@ -128,3 +128,11 @@ def test_html_is_escaped():
 
 def test_repr_is_short(view):
     assert repr(view).startswith("<ProcedureView over <ProcedureRun 'nmr-reference-field'")
+
+
+def test_a_bad_procedure_file_gives_a_message_not_a_traceback(tmp_path):
+    bad = tmp_path / "lab.toml"
+    bad.write_text('format = "fieldbudget-procedure/1"\n', encoding="utf-8")
+    shown = procedure_app(bad)
+    assert "fb-proc-error" in shown._dom_classes
+    assert f"{bad}, at (top level): missing required key &#x27;procedure&#x27;" in shown.value
