@@ -24,9 +24,9 @@ from dataclasses import dataclass
 
 from .. import _display
 from ..errors import InputError
-from .montecarlo import MonteCarloResult, numerical_tolerance
+from .montecarlo import MonteCarloResult, MonteCarloVectorResult, numerical_tolerance
 
-__all__ = ["ValidationResult", "validate"]
+__all__ = ["ValidationResult", "validate", "validate_outputs"]
 
 _WHERE = "validation (JCGM 101 clause 8)"
 
@@ -123,6 +123,18 @@ def validate(gum_result, mc_result: MonteCarloResult, significant_digits: int = 
                             gum_interval=(y - U, y + U), mc_interval=(lo, hi),
                             coverage_probability=p_gum, significant_digits=int(significant_digits),
                             interval_kind=kind, output=output, unit=unit)
+
+
+def validate_outputs(gum_results, mc_results: MonteCarloVectorResult, significant_digits: int = 2, *,
+                     interval: str = "symmetric") -> tuple[ValidationResult, ...]:
+    """:func:`validate` for each output of a several-output model, in the model's output order.
+
+    ``gum_results`` is a ``VectorResult`` (indexable by output symbol) and
+    ``mc_results`` the :class:`MonteCarloVectorResult` of the same budget.
+    """
+    if not isinstance(mc_results, MonteCarloVectorResult):
+        raise InputError("mc_results", type(mc_results).__name__, "a MonteCarloVectorResult", _WHERE)
+    return tuple(validate(gum_results[r.output], r, significant_digits, interval=interval) for r in mc_results.results)
 
 
 def _advice(passed, y, U, u_gum, lo, hi, delta, d_low, d_high, mc) -> str:

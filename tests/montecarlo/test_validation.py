@@ -95,3 +95,17 @@ def test_second_order_refuses_correlations_and_needs_an_output():
     with pytest.raises(InputError, match="output"):
         second_order.combined_uncertainty(v)
     assert second_order.combined_uncertainty(v, output="s") == pytest.approx(math.sqrt(0.02), rel=1e-9)
+
+
+def test_each_output_of_a_vector_model_is_validated():
+    from fieldbudget.engine import Model
+    b = Budget(model=Model.from_expressions({"s": "a + b", "p": "a * b"}),
+               inputs=(Q.normal("a", 1.0, 0.01), Q.normal("b", 0.0, 0.02)), coverage_probability=0.95)
+    vs = validation.validate_outputs(evaluate(b), montecarlo.run(b, 200_000, seed=3))
+    assert [v.output for v in vs] == ["s", "p"]
+    # s is linear and normal: passes.  p = a b at b = 0: the term u_a u_b that first order leaves out changes
+    # u by 1e-6 of itself, and the standard error of an interval end, sqrt(p (1 - p) / M) / f(y_p) = 1.2e-4
+    # at M = 2e5, is a quarter of delta = 0.0005 (u = 0.020 to two digits): both pass.
+    assert vs[0].passed and vs[1].passed and vs[1].delta == pytest.approx(0.0005)
+    with pytest.raises(InputError):
+        validation.validate_outputs(evaluate(b), montecarlo.run(b, 20_000, seed=3)[0])
