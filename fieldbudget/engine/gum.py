@@ -145,8 +145,10 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
         if uc == 0:
             warn.append("the combined standard uncertainty is zero at first order: the law of propagation sees no "
                         "contribution here; check with Monte Carlo or second-order terms (JCGM 100:2008 5.1.2)")
+        used = (set(budget.model.expressions[j].symbols) if budget.model.expressions is not None
+                else set(budget.model.function_symbols))
         for q, ci in zip(budget.inputs, c):
-            if ci == 0 and q.standard_uncertainty > 0:
+            if ci == 0 and q.standard_uncertainty > 0 and q.symbol in used:
                 warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate, so first-order "
                             "propagation ignores its uncertainty; if the model is nonlinear in it (e.g. a cosine "
                             "at 0), first-order propagation underestimates u: check with Monte Carlo or "

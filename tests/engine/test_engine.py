@@ -128,3 +128,12 @@ def test_budget_and_result_pickle_and_deepcopy(power_budget):
     assert copy.deepcopy(r).to_dict() == r.to_dict()
     with pytest.raises(TypeError, match="read-only"):
         b.metadata["codata"] = 2018
+
+
+def test_vector_warnings_concern_only_the_output_s_own_inputs():
+    b = Budget(model=Model.from_expressions({"y1": "a + b", "y2": "1 - cos(t)"}),
+               inputs=(InputQuantity.normal("a", 1, 0.1), InputQuantity.normal("b", 1, 0.1),
+                       InputQuantity.normal("t", 0.0, 0.01)))
+    r = evaluate(b)
+    assert not any("'t'" in w for w in r["y1"].warnings)
+    assert any("'t' has zero first-order sensitivity" in w for w in r["y2"].warnings)
