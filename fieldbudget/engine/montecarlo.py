@@ -204,8 +204,9 @@ class MonteCarloResult:
     def _line(self) -> str:
         unit = f" {self.unit}" if self.unit else ""
         lo, hi = self.interval
-        return (f"{self.output} = {_display.fmt(self.estimate)}{unit}, u = {_display.fmt(self.standard_uncertainty, 3)}"
-                f"{unit}, {self.coverage_probability * 100:g} % [{_display.fmt(lo)}, {_display.fmt(hi)}]"
+        return (f"{self.output} = {_display.fmt(self.estimate, 10)}{unit}, u = "
+                f"{_display.fmt(self.standard_uncertainty, 3)}{unit}, {self.coverage_probability * 100:g} % "
+                f"[{_display.fmt(lo, 10)}, {_display.fmt(hi, 10)}]"
                 f", M = {self.trials}, seed = {self.seed}")
 
     def __repr__(self) -> str:
@@ -214,12 +215,12 @@ class MonteCarloResult:
     def _repr_html_(self) -> str:
         unit = self.unit
         rows = [
-            ("estimate (mean)", _display.fmt(self.estimate), unit),
+            ("estimate (mean)", _display.fmt(self.estimate, 10), unit),
             ("standard uncertainty", _display.fmt(self.standard_uncertainty, 3), unit),
             (f"{self.coverage_probability * 100:g} % interval, probabilistically symmetric",
-             f"[{_display.fmt(self.interval[0])}, {_display.fmt(self.interval[1])}]", unit),
+             f"[{_display.fmt(self.interval[0], 10)}, {_display.fmt(self.interval[1], 10)}]", unit),
             (f"{self.coverage_probability * 100:g} % interval, shortest",
-             f"[{_display.fmt(self.shortest_interval[0])}, {_display.fmt(self.shortest_interval[1])}]", unit),
+             f"[{_display.fmt(self.shortest_interval[0], 10)}, {_display.fmt(self.shortest_interval[1], 10)}]", unit),
             ("trials M", str(self.trials) + (" (adaptive)" if self.adaptive else ""), ""),
             ("seed", str(self.seed), ""),
             ("generator", f"{self.generator}, numpy {self.numpy_version}, blocks of {self.block_size}", ""),

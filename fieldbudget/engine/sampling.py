@@ -16,6 +16,10 @@ Each engine distribution maps to the sampling procedure of JCGM 101:2008
 - correlated inputs: a multivariate normal x + diag(u) L z with L the
   Cholesky factor of the correlation matrix (6.4.8.4).
 
+A Type B dof stated on a rectangular, triangular, arcsine or trapezoid input
+(GUM G.4.2) does not change how it is drawn: JCGM 101 models doubt about a
+rectangular's limits with the curvilinear trapezoid instead (6.4.3).
+
 Written by hand because these are the standard's own procedures (numpy gives
 the uniform, normal and t variates; the mapping to each distribution is
 JCGM 101's).  Every draw writes into a caller's array (``draw_into``) so the
