@@ -26,6 +26,10 @@ def mc_histogram(mc: Any, gum: Any = None, *, ax: Any = None, title: str | None 
     GUM result is given, y +- U (JCGM 100:2008, 6.2.1).
     """
     counts, edges = mc.histogram
+    # drawn as deviations from the Monte Carlo estimate: absolute values of a narrow
+    # distribution far from zero make unreadable tick labels
+    y0 = mc.estimate
+    edges = [e - y0 for e in edges]
     fig = None
     if ax is None:
         fig = Figure(figsize=(6.4, 3.4), dpi=90)
@@ -37,6 +41,7 @@ def mc_histogram(mc: Any, gum: Any = None, *, ax: Any = None, title: str | None 
     p = 100 * mc.coverage_probability
 
     def span(lo: float, hi: float, colour: str, label: str, y: float) -> None:
+        lo, hi = lo - y0, hi - y0
         ax.axvline(lo, color=colour, lw=1.4)
         ax.axvline(hi, color=colour, lw=1.4)
         ax.annotate("", xy=(lo, y), xytext=(hi, y), arrowprops={"arrowstyle": "<->", "color": colour})
@@ -48,7 +53,8 @@ def mc_histogram(mc: Any, gum: Any = None, *, ax: Any = None, title: str | None 
         y, U = gum.estimate, gum.expanded_uncertainty
         span(y - U, y + U, _COLOURS["gum"], f"GUM y \u00b1 U (k = {gum.coverage_factor:.3g})", 1.19 * top)
     unit = getattr(mc, "unit", "") or ""
-    ax.set_xlabel(f"{getattr(mc, 'output', 'y')}" + (f" / {unit}" if unit else ""))
+    name = getattr(mc, "output", "y")
+    ax.set_xlabel(f"{name} \u2212 {y0:.12g} {unit}".rstrip() + (f"   (in {unit})" if unit else ""))
     ax.set_ylabel("trials per bin")
     ax.set_ylim(0, 1.3 * top)
     ax.legend(loc="upper left", fontsize="x-small", frameon=False)

@@ -107,5 +107,9 @@ class BoundText:
         finally:
             self._syncing = False
 
-    def set_visible(self, visible: bool) -> None:
-        self.widget.layout.display = None if visible else "none"
+    def set_visible(self, visible: bool, keep_space: bool = False) -> None:
+        """Show or hide; ``keep_space`` hides without moving the boxes after it (table-like rows)."""
+        if keep_space:
+            self.widget.layout.visibility = None if visible else "hidden"
+        else:
+            self.widget.layout.display = None if visible else "none"

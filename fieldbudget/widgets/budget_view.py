@@ -108,7 +108,8 @@ def summary_html(result: Any) -> str:
     unit = _unit(result)
     k, p = result.coverage_factor, getattr(result, "coverage_probability", None)
     ptxt = f" (p \u2248 {100 * p:.2f} %)" if p else ""
-    return (f'<div class="fb-summary"><span class="fb-estimate">y = {escape(fmt(result.estimate, 10))} '
+    name = getattr(getattr(result, "measurand", None), "symbol", "y")
+    return (f'<div class="fb-summary"><span class="fb-estimate">{escape(name)} = {escape(fmt(result.estimate, 10))} '
             f'{escape(unit)}</span>; <span class="fb-uc-summary">u<sub>c</sub> = '
             f'{escape(format_u(result.standard_uncertainty, unit))}</span>; k = {escape(fmt(k, 3))}; '
             f'<span class="fb-U">U = {escape(format_u(result.expanded_uncertainty, unit))}</span>'

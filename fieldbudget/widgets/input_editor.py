@@ -72,7 +72,7 @@ class _RowView:
             self._syncing = False
         keys = self.row.relevant()
         for k, bt in self.texts.items():
-            bt.set_visible(k in keys)
+            bt.set_visible(k in keys, keep_space=k != "readings")
         for dd, key in ((self.dist, "distribution"), (self.meaning, "meaning")):
             dd.layout.visibility = None if key in keys else "hidden"
 
@@ -175,7 +175,7 @@ class InputEditor(w.VBox):
         self.corr_a.options = symbols
         self.corr_b.options = symbols
         if len(symbols) > 1:
-            self.corr_b.value = symbols[1]
+            self.corr_a.value, self.corr_b.value = symbols[0], symbols[1]
 
     @guarded
     def _set_corr(self, a: str, b: str, text: str) -> None:

@@ -7,6 +7,7 @@ job's state.
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import ipywidgets as w
@@ -19,19 +20,25 @@ from .budget_view import format_u
 __all__ = ["MonteCarloPanel", "verdict_html", "intervals_html"]
 
 
+def _decimals(U: float) -> int:
+    """Decimals that show two significant digits of the interval's width (common practice)."""
+    return max(0, 1 - math.floor(math.log10(U))) if U > 0 and math.isfinite(U) else 6
+
+
 def intervals_html(mc: Any, gum: Any) -> str:
     unit = getattr(mc, "unit", "") or ""
+    nd = _decimals(abs(mc.interval[1] - mc.interval[0]) / 2)
     p = 100 * mc.coverage_probability
     rows = [("Monte Carlo, probabilistically symmetric", *mc.interval),
             ("Monte Carlo, shortest", *mc.shortest_interval)]
     if gum is not None:
         rows.append((f"GUM, y \u00b1 U (k = {fmt(gum.coverage_factor, 3)})",
                      gum.estimate - gum.expanded_uncertainty, gum.estimate + gum.expanded_uncertainty))
-    body = "".join(f"<tr><td>{escape(n)}</td><td>{escape(fmt(lo, 10))}</td><td>{escape(fmt(hi, 10))}</td></tr>"
-                   for n, lo, hi in rows)
+    body = "".join(f"<tr><td>{escape(n)}</td><td>{lo:.{nd}f}</td><td>{hi:.{nd}f}</td></tr>" for n, lo, hi in rows)
     return (f'<table class="fb-table fb-mc-intervals"><thead><tr><th>{escape(f"{p:.4g} % coverage interval")}'
             f'</th><th>low / {escape(unit)}</th><th>high / {escape(unit)}</th></tr></thead><tbody>{body}'
-            f'</tbody></table><div class="fb-mc-u">Monte Carlo: y = {escape(fmt(mc.estimate, 10))} {escape(unit)},'
+            f'</tbody></table><div class="fb-mc-u">Monte Carlo: {escape(getattr(mc, "output", "y"))} = '
+            f'{mc.estimate:.{nd}f} {escape(unit)},'
             f" u(y) = {escape(format_u(mc.standard_uncertainty, unit))}, M = {mc.trials}, seed {mc.seed}</div>")
 
 

@@ -98,7 +98,7 @@ def test_meaning_dropdown_shows_the_boxes_it_needs(views):
     rv = ed._row_views[d.rows[0].id]
     rv.meaning.value = "readings"
     assert rv.texts["readings"].widget.layout.display is None
-    assert rv.texts["estimate"].widget.layout.display == "none"
+    assert rv.texts["estimate"].widget.layout.visibility == "hidden"
     rv.texts["readings"].box.value = "1.0\n1.2\n0.8"
     assert d.result.contribution("a").dof == 2
     rv.meaning.value = "expanded"
