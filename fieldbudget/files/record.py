@@ -159,13 +159,19 @@ def _schema() -> dict:
 
 def software_versions() -> dict[str, str]:
     """Versions of fieldbudget, numpy, scipy, uncertainties and Python, as recorded."""
+    return dict(_versions())
+
+
+@cache
+def _versions() -> tuple[tuple[str, str], ...]:
+    # Installed versions cannot change under a running process; reading package metadata is slow.
     out = {"fieldbudget": __version__, "python": platform.python_version()}
     for name in ("numpy", "scipy", "uncertainties", "jsonschema"):
         try:
             out[name] = _metadata.version(name)
         except _metadata.PackageNotFoundError:
             out[name] = "not installed"
-    return out
+    return tuple(out.items())
 
 
 def _utc_now() -> str:
