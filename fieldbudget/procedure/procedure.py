@@ -146,6 +146,12 @@ class Component:
         unit = f" [{self.unit}]" if self.unit else ""
         return f"<Component {self.id!r} -> {self.target}{unit}, {self.kind}, {who}>"
 
+    def _repr_html_(self) -> str:
+        e = _display.escape
+        who = f"fixed by the lab ({e(self.source)})" if self.fixed else "entered by the operator"
+        value = "" if self.value is None else f" = <code>{e(self.value)}</code> {e(self.unit)}"
+        return f'<div class="fb-proc-component"><strong>{e(self.label)}</strong>{value}: {who}</div>'
+
     def to_dict(self) -> dict:
         d = {
             "id": self.id, "target": self.target, "label": self.label, "kind": self.kind,
@@ -170,6 +176,10 @@ class Step:
     def __repr__(self) -> str:
         return f"<Step {self.id!r}: {self.title} ({len(self.components)} components)>"
 
+    def _repr_html_(self) -> str:
+        e = _display.escape
+        return f'<div class="fb-proc-step"><strong>{e(self.title)}</strong><p>{e(self.instruction)}</p></div>'
+
     def to_dict(self) -> dict:
         return {"id": self.id, "title": self.title, "instruction": self.instruction,
                 "components": list(self.components), "cautions": list(self.cautions)}
@@ -182,6 +192,13 @@ class SafetyCaution:
     id: str
     title: str
     text: str
+
+    def __repr__(self) -> str:
+        return f"<SafetyCaution {self.id!r}: {self.title}>"
+
+    def _repr_html_(self) -> str:
+        e = _display.escape
+        return f'<div class="fb-proc-caution"><strong>{e(self.title)}.</strong> {e(self.text)}</div>'
 
     def to_dict(self) -> dict:
         return {"id": self.id, "title": self.title, "text": self.text}
@@ -215,6 +232,10 @@ class AcceptanceLimit:
     def __repr__(self) -> str:
         return f"<AcceptanceLimit {self.id!r}: {self.describe()}>"
 
+    def _repr_html_(self) -> str:
+        e = _display.escape
+        return f'<div class="fb-proc-limit">{e(self.text)}: <code>{e(self.describe())}</code></div>'
+
     def to_dict(self) -> dict:
         return {"id": self.id, "text": self.text, "result": self.result, "component": self.component,
                 "min": self.minimum, "max": self.maximum}
@@ -228,6 +249,13 @@ class CodataPolicy:
     operator_may_choose: bool = False
     allowed: tuple[int, ...] = ()
     reason: str = ""
+
+    def __repr__(self) -> str:
+        how = f"operator may choose from {list(self.allowed)}" if self.operator_may_choose else "fixed"
+        return f"<CodataPolicy CODATA {self.edition}, {how}>"
+
+    def _repr_html_(self) -> str:
+        return f"<span>CODATA {self.edition} ({_display.escape(self.reason or 'lab policy')})</span>"
 
     def to_dict(self) -> dict:
         return {"edition": self.edition, "operator_may_choose": self.operator_may_choose,

@@ -146,6 +146,11 @@ class LimitVerdict:
     def __repr__(self) -> str:
         return f"<LimitVerdict {self.limit.id!r}: {_display.fmt(self.value) or '-'} -> {self.verdict}>"
 
+    def _repr_html_(self) -> str:
+        e = _display.escape
+        return (f'<span class="fb-proc-verdict">{e(self.limit.text)}: {e(_display.fmt(self.value) or "-")} '
+                f"&rarr; {e(self.verdict)}</span>")
+
     def to_dict(self) -> dict:
         v = self.value if self.value is None or math.isfinite(self.value) else None
         return {"id": self.limit.id, "limit": self.limit.describe(), "text": self.limit.text,

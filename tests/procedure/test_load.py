@@ -87,3 +87,13 @@ def test_unknown_component_lookup_names_known_ids():
     proc = load_procedure(NMR_TEMPLATE)
     with pytest.raises(KeyError, match="no component 'nope'.*frequency_readings"):
         proc.component("nope")
+
+
+def test_every_value_has_html_and_plain_dict():
+    proc = load_procedure(NMR_TEMPLATE)
+    for obj in (proc, proc.steps[0], proc.components[0], proc.acceptance[0], proc.safety[0], proc.codata):
+        assert obj._repr_html_().startswith("<")
+        d = obj.to_dict()
+        assert json.loads(json.dumps(d)) == d
+    assert repr(proc.codata) == "<CodataPolicy CODATA 2022, fixed>"
+    assert repr(proc.safety[0]) == "<SafetyCaution 'implants': Implanted medical devices>"
