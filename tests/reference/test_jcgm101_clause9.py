@@ -173,9 +173,16 @@ def _gen_chi2(x1: float, r: float):
 
 def _gen_chi2_cdf(t: float, w, m) -> float:
     # P(w1 A + w2 B <= t), A ~ chi2_1(m1^2), B ~ chi2_1(m2^2); B = (Z + m2)^2 integrated over Z.
+    # P(w1 (Z1 + m1)^2 <= rest) = Phi(s - m1) - Phi(-s - m1) with s = sqrt(rest / w1)
+    def phi_cdf(x: float) -> float:
+        return 0.5 * (1.0 + math.erf(x / math.sqrt(2.0)))
+
     def inner(z: float) -> float:
         rest = t - w[1] * (z + m[1]) ** 2
-        return stats.ncx2(1, m[0] ** 2).cdf(rest / w[0]) * stats.norm.pdf(z) if rest > 0 else 0.0
+        if rest <= 0:
+            return 0.0
+        s = math.sqrt(rest / w[0])
+        return (phi_cdf(s - m[0]) - phi_cdf(-s - m[0])) * math.exp(-0.5 * z * z) / math.sqrt(2 * math.pi)
 
     zmax = math.sqrt(t / w[1])
     return integrate.quad(inner, -zmax - m[1], zmax - m[1], limit=200, epsabs=1e-12)[0]
