@@ -178,16 +178,18 @@ def rebase(budget: Budget, edition: int) -> Budget:
     """The same budget with every CODATA-referenced input looked up in ``edition``.
 
     An input whose ``reference`` names a CODATA value gets that edition's value
-    and standard uncertainty (normal), in the reference's own unit; the
+    and standard uncertainty (normal), in the reference's own unit; inputs
+    referring to other tables (IUPAC, water data) stay as they are.  The
     budget's ``metadata['codata']`` records the edition.
     """
-    from ..constants import lookup
-
-    inputs = []
+    from ..constants import lookup, names
     from .distributions import Normal
 
+    codata_names = set(names(edition))
+    inputs = []
     for q in budget.inputs:
-        if q.reference:
+        # references to non-CODATA tables (IUPAC, water data) do not change with the CODATA edition
+        if q.reference and (q.reference in codata_names or _is_codata_name(q.reference, edition)):
             rv = lookup(q.reference, edition=edition)
             q = q.replace(estimate=rv.value, distribution=Normal(u=rv.uncertainty),
                           source=f"CODATA {rv.edition}: {rv.name}")
@@ -195,3 +197,14 @@ def rebase(budget: Budget, edition: int) -> Budget:
     md = dict(budget.metadata)
     md["codata"] = edition
     return budget.replace(inputs=tuple(inputs), metadata=md)
+
+
+def _is_codata_name(name: str, edition: int) -> bool:
+    from ..constants import lookup
+    from ..errors import UnknownConstantError
+
+    try:
+        lookup(name, edition=edition)
+    except UnknownConstantError:
+        return False
+    return True

@@ -454,12 +454,12 @@ def _build(m: NMRMeasurement) -> Budget:
         add(InputQuantity("alpha_T", alpha_rv.value, Normal(u=alpha_rv.uncertainty), unit="1/K",
                           source=f"{alpha_rv.edition}: {alpha_rv.source}",
                           description="temperature coefficient of the proton shielding in a water sphere",
-                          note=f"valid {alpha_rv.valid_from:g} to {alpha_rv.valid_to:g} degC"))
+                          note=f"valid {alpha_rv.valid_from:g} to {alpha_rv.valid_to:g} degC", reference=_ALPHA))
         t_sym = add(InputQuantity("t_s", t, Normal(u=ut), unit="degC",
                                   source=sample.text("source", "sample thermometer"),
                                   description="temperature of the water sample"))
         add(InputQuantity("t_ref", t_ref_rv.value, Normal(u=0.0), unit="degC", source=t_ref_rv.source,
-                          description="reference temperature of gamma'_p (exact by convention)"))
+                          description="reference temperature of gamma'_p (exact by convention)", reference=_T_REF))
         den.append("(1 - alpha_T * (t_s - t_ref))")
     elif sample.has("u_temperature_C") and not sample.has("temperature_C"):
         raise sample.fail("temperature_C", "missing: give the sample temperature with its uncertainty")
@@ -710,7 +710,8 @@ def _shape_inputs(sample: _Reader, nuc: Nucleus, t_sym: str | None):
                               "susceptibility; give the SI volume susceptibility of the sample")
         chi, u_chi, water = 0.0, 0.0, False
     qs.append(InputQuantity("chi", chi, Normal(u=u_chi), unit="", source=src_chi,
-                            description="SI volume magnetic susceptibility of the sample"))
+                            description="SI volume magnetic susceptibility of the sample",
+                            reference=_CHI if water and u_chi == rv.uncertainty else None))
     factor = "(1 + chi * (1/3 - N_d))"
     if water and t_sym is not None:
         # the water susceptibility's own temperature dependence (a bound with estimate 0 in the data)
@@ -718,9 +719,11 @@ def _shape_inputs(sample: _Reader, nuc: Nucleus, t_sym: str | None):
         qs.append(InputQuantity("c_chi", tc.value, Normal(u=tc.uncertainty), unit="1/K",
                                 source=f"{tc.edition}: {tc.source}",
                                 description="relative temperature coefficient of the water susceptibility",
-                                note="the data state a rectangular bound; carried by its standard uncertainty"))
+                                note="the data state a rectangular bound; carried by its standard uncertainty",
+                                reference=_CHI_TC))
         qs.append(InputQuantity("t_chi", t_chi.value, Normal(u=0.0), unit="degC", source=t_chi.source,
-                                description="temperature at which the water susceptibility is given"))
+                                description="temperature at which the water susceptibility is given",
+                                reference=_CHI_T))
         factor = f"(1 + chi * (1 + c_chi * ({t_sym} - t_chi)) * (1/3 - N_d))"
     return qs, factor
 

@@ -137,3 +137,20 @@ def test_vector_warnings_concern_only_the_output_s_own_inputs():
     r = evaluate(b)
     assert not any("'t'" in w for w in r["y1"].warnings)
     assert any("'t' has zero first-order sensitivity" in w for w in r["y2"].warnings)
+
+
+def test_rebase_changes_codata_inputs_only():
+    from fieldbudget.constants import lookup, lookup_other
+    from fieldbudget.engine import rebase
+
+    g22 = lookup("shielded proton gyromag. ratio in MHz/T", 2022)
+    a = lookup_other("proton shielding temperature coefficient in water")
+    b = Budget(model="f / (g * 1e6) * (1 + alpha)", measurand=Measurand("B", "T"), inputs=(
+        InputQuantity.normal("f", 100e6, 1.0, unit="Hz"),
+        InputQuantity.normal("g", g22.value, g22.uncertainty, unit="MHz/T", reference=g22.name),
+        InputQuantity.normal("alpha", a.value, a.uncertainty, reference=a.name)))
+    old = rebase(b, 2018)
+    assert old.input("g").estimate == lookup("shielded proton gyromag. ratio in MHz/T", 2018).value
+    assert old.input("alpha") == b.input("alpha") and old.metadata["codata"] == 2018
+    # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 (nmr-physics.md §1.5, from the published tables)
+    assert round((evaluate(old).estimate / evaluate(b).estimate - 1) * 1e9, 1) == 16.2
