@@ -8,6 +8,7 @@ job's state.
 from __future__ import annotations
 
 import math
+import time
 from typing import Any
 
 import ipywidgets as w
@@ -89,8 +90,16 @@ class MonteCarloPanel(w.VBox):
                          w.HBox([self.progress, self.state]), self.histogram, self.intervals, self.verdict,
                          self.status]
         css(self, "fb-mc-panel")
-        self._unsubscribe = self.job.subscribe(lambda job: self.render())
+        self._last = (None, 0.0)
+        self._unsubscribe = self.job.subscribe(self._on_job)
         self.render()
+
+    def _on_job(self, job: MonteCarloJob) -> None:
+        # at most ten progress redraws a second; every change of state is drawn
+        now = time.monotonic()
+        if job.state != self._last[0] or now - self._last[1] >= 0.1:
+            self._last = (job.state, now)
+            self.render()
 
     @guarded
     def _set_trials(self, text: str) -> None:

@@ -106,3 +106,21 @@ def test_save_measurement_round_trip(draft, tmp_path):
 
 def test_repr(draft):
     assert repr(draft) == "<NMRDraft shielded-proton, 38 fields, current>"
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_DRAFT = NMRDraft(nmr_description())
+_PATHS = sorted(_DRAFT.fields)
+
+
+@settings(max_examples=60, deadline=None)
+@given(path=st.sampled_from(_PATHS), text=st.one_of(st.text(max_size=10), st.sampled_from(
+    ["-1", "0", "1e300", "nan", "inf", "", " ", "1,2", "42576395 42576396", "2018", "sphere"])))
+def test_any_text_in_any_field_never_raises(path, text):
+    d = NMRDraft(nmr_description())
+    good = d.result
+    d.set(path, text)
+    assert d.fields[path].text == text
+    assert (d.current and not d.errors) or (d.result is good and d.errors)

@@ -49,3 +49,12 @@ def test_add_and_remove_point_buttons(app):
 
 def test_curve_shown(app):
     assert "calibration curve" in app.form.curve.value and "a1 = " in app.form.curve.value
+
+
+def test_no_exception_escapes_a_callback(app, monkeypatch):
+    def boom(*a, **k):
+        raise KeyError("lost")
+
+    monkeypatch.setattr(app.draft, "set", boom)
+    app.form._rows[0].texts["name"].box.value = "first"
+    assert "internal error (KeyError" in app.form.status.value

@@ -66,3 +66,19 @@ def test_readings_pasted_and_uploaded(form):
 
 def test_repr(form):
     assert repr(form[1]).startswith("<NMRForm over <NMRDraft shielded-proton")
+
+
+def test_no_exception_escapes_a_callback(form, monkeypatch):
+    d, f, v = form
+
+    def boom(*a, **k):
+        raise ZeroDivisionError("deep inside")
+
+    monkeypatch.setattr(d, "set", boom)
+    f.boxes["line.snr"].box.value = "10"
+    assert "internal error (ZeroDivisionError: deep inside)" in f.status.value
+    monkeypatch.setattr(d, "load_counter_csv", boom)
+    content = b"f\n1\n2\n"
+    f.upload.value = ({"name": "c.csv", "type": "text/csv", "size": len(content), "content": memoryview(content),
+                       "last_modified": datetime.datetime(2026, 11, 30, tzinfo=datetime.timezone.utc)},)
+    assert "internal error" in f.status.value
