@@ -24,7 +24,7 @@ def share_chart(data, width: float = 520.0) -> dict:
             "title": f"Variance shares of the inputs in u_c({data.symbol})"}
 
 
-def histogram_chart(data, width: float = 520.0, height: float = 180.0) -> dict | None:
+def histogram_chart(data, width: float = 520.0, height: float = 150.0) -> dict | None:
     """Histogram of the Monte Carlo trials with the GUM estimate marked; ``None`` without a run."""
     hist = data.histogram
     if not hist:
@@ -40,5 +40,5 @@ def histogram_chart(data, width: float = 520.0, height: float = 180.0) -> dict |
         bars.append({"x": pad + (a - lo) * sx, "w": max(0.5, (b - a) * sx), "y": 10 + plot_h - h, "h": h})
     gx = pad + (data.value - lo) * sx
     return {"width": width, "height": height, "bars": bars, "axis_y": 10 + plot_h, "gum_x": gx,
-            "show_gum": 0.0 <= gx <= width, "lo": fmt(lo, 8), "hi": fmt(hi, 8), "pad": pad,
+            "show_gum": 0.0 <= gx <= width, "lo": fmt(lo, 10), "hi": fmt(hi, 10), "pad": pad,
             "title": f"Monte Carlo distribution of {data.symbol} ({sum(c for *_, c in hist)} trials shown)"}
