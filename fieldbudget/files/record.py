@@ -750,7 +750,7 @@ class VerifyResult:
                           caption="verification " + ("passed" if self.passed else "FAILED"), css_class="fb-table")
 
 
-_GUM_KEYS = ("value", "u", "nu_eff", "k", "U", "coverage_probability", "rounded", "statement")
+_GUM_KEYS = ("value", "u", "nu_eff", "k", "U", "coverage_probability", "rounded")
 _CONTRIB_KEYS = ("symbol", "estimate", "u_x", "dof", "sensitivity", "u_contribution", "share")
 _MC_EXACT_KEYS = ("value", "u", "interval", "shortest_interval", "trials", "seed")
 
@@ -854,8 +854,14 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
     if diffs:
         checks.append(Check("GUM", "fail", "recomputed results differ: " + "; ".join(diffs)))
     else:
-        checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff and every contribution agree to the last digit "
-                                           f"(U = {fmt(float(fresh['U']), 6)})"))
+        checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff, the rounded result and every contribution "
+                                           f"agree to the last digit (U = {fmt(float(fresh['U']), 6)})"))
+    # The wording of the statement may improve between releases; the numbers above are what must agree.
+    if fresh.get("statement") == record.gum.get("statement"):
+        checks.append(Check("statement", "pass", "the statement reads as recorded"))
+    else:
+        checks.append(Check("statement", "info", f"this release words the statement differently: recorded "
+                                                 f"{record.gum.get('statement')!r}, now {fresh.get('statement')!r}"))
 
     if record.monte_carlo is None:
         checks.append(Check("Monte Carlo", "info", "no Monte Carlo run in this record"))

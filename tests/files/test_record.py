@@ -50,7 +50,7 @@ def test_round_trip_save_load_verify(tmp_path, mc_record):
     result = verify_record(path)
     assert result.passed, result.report()
     names = [c.name for c in result.checks]
-    assert names[:5] == ["schema", "file form", "digest", "budget", "GUM"]
+    assert names[:6] == ["schema", "file form", "digest", "budget", "GUM", "statement"]
     mc = next(c for c in result.checks if c.name == "Monte Carlo")
     assert mc.status == "pass" and "bit-identical" in mc.detail
     # verifying a Record object (not a file) runs the same content checks
@@ -161,6 +161,22 @@ def test_verify_catches_a_gum_result_off_in_the_last_digit(mc_record):
     assert not result.passed
     assert [c.name for c in result.failures] == ["GUM"]
     assert "u: recorded" in result.failures[0].detail
+
+
+def test_a_reworded_statement_is_reported_but_does_not_fail(mc_record):
+    gum = dict(mc_record.gum)
+    gum["statement"] = gum["statement"].replace("The number after", "The figure after")
+    result = verify_record(_redigest(mc_record, gum=gum))
+    assert result.passed
+    check = next(c for c in result.checks if c.name == "statement")
+    assert check.status == "info" and "The figure after" in check.detail
+
+
+def test_verify_catches_a_changed_rounded_result(mc_record):
+    gum = dict(mc_record.gum)
+    gum["rounded"] = dict(gum["rounded"], U="0.000000013")
+    result = verify_record(_redigest(mc_record, gum=gum))
+    assert [c.name for c in result.failures] == ["GUM"] and "rounded" in result.failures[0].detail
 
 
 def test_verify_catches_monte_carlo_not_bit_identical(mc_record):

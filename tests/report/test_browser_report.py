@@ -89,5 +89,6 @@ def test_pdf_has_the_expected_pages_and_the_statement(tmp_path, budget, trials, 
     second = _plain(reader.pages[1].extract_text())
     head = _plain(rec.statement.split(". ")[0])
     assert head in first
+    assert f"page 1 of {expected_pages}" in first and rec.digest[:16] in first  # the page margins
     assert _plain(rec.statement) in first
     assert "Traceability chain" in second and rec.digest in second.replace(" ", "")
