@@ -8,8 +8,8 @@ Side by side in one process, best of a few repeats each:
   hand-written   those draws plus the model written out in numpy (what a user would type);
   hand + summary the hand-written run plus mean, standard deviation and a 95 % interval (np.quantile);
   engine, w = n  fieldbudget.engine.montecarlo.run with n worker threads.
-Peak resident memory of one 10^7-trial run is measured in a fresh subprocess (resource.getrusage),
-so that it counts only that run.
+Peak resident memory of one 10^7-trial run is measured in a fresh subprocess (VmHWM of
+/proc/self/status), so that it counts only that run.
 """
 
 from __future__ import annotations
@@ -96,22 +96,39 @@ def best(fn, repeat: int) -> float:
     return min(times)
 
 
-def peak_rss_mib(trials: int, workers: int) -> float:
-    code = (
-        "import resource, sys; sys.path.insert(0, 'benchmarks');"
-        "from bench_montecarlo import nonlinear_15; from fieldbudget.engine import montecarlo;"
-        f"montecarlo.run(nonlinear_15(), {trials}, seed=1, workers={workers});"
-        "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)"
-    )
+# Peak RSS read in the child itself.  /proc/self/status VmHWM belongs to the child's own address space
+# (reset at exec); getrusage's ru_maxrss is the fallback, but on Linux it keeps the high-water mark of the
+# forked copy of this (large) parent process, so it would overstate the child's peak.
+_PEAK = (
+    "def _peak():\n"
+    "    try:\n"
+    "        for line in open('/proc/self/status'):\n"
+    "            if line.startswith('VmHWM:'):\n"
+    "                return int(line.split()[1])\n"
+    "    except OSError:\n"
+    "        pass\n"
+    "    import resource\n"
+    "    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
+)
+
+
+def _child_peak_mib(body: str) -> float:
+    code = _PEAK + body + "\nprint(_peak())\n"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    return int(out.stdout.split()[-1]) / 1024.0   # Linux: kilobytes
+    return int(out.stdout.split()[-1]) / 1024.0   # kilobytes -> MiB
+
+
+def peak_rss_mib(trials: int, workers: int) -> float:
+    return _child_peak_mib(
+        "import sys; sys.path.insert(0, 'benchmarks')\n"
+        "from bench_montecarlo import nonlinear_15\nfrom fieldbudget.engine import montecarlo\n"
+        f"montecarlo.run(nonlinear_15(), {trials}, seed=1, workers={workers})")
 
 
 def baseline_rss_mib() -> float:
-    code = ("import resource, numpy, scipy.stats; import fieldbudget.engine;"
-            "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    return int(out.stdout.split()[-1]) / 1024.0
+    return _child_peak_mib("import sys; sys.path.insert(0, 'benchmarks')\n"
+                           "from bench_montecarlo import nonlinear_15\nfrom fieldbudget.engine import montecarlo\n"
+                           "nonlinear_15()")
 
 
 def main() -> None:
