@@ -92,3 +92,15 @@ def test_pdf_has_the_expected_pages_and_the_statement(tmp_path, budget, trials, 
     assert f"page 1 of {expected_pages}" in first and rec.digest[:16] in first  # the page margins
     assert _plain(rec.statement) in first
     assert "Traceability chain" in second and rec.digest in second.replace(" ", "")
+
+
+def test_missing_browser_skips_or_fails_as_the_environment_asks(monkeypatch):
+    import tests.report.test_browser_report as me
+
+    monkeypatch.setattr(me, "CHROMIUM", None)
+    monkeypatch.setenv("FIELDBUDGET_REQUIRE_BROWSER", "1")
+    with pytest.raises(pytest.fail.Exception, match="FIELDBUDGET_REQUIRE_BROWSER=1"):
+        me._need_browser()
+    monkeypatch.delenv("FIELDBUDGET_REQUIRE_BROWSER")
+    with pytest.raises(pytest.skip.Exception, match="chromium is not installed"):
+        me._need_browser()

@@ -223,3 +223,11 @@ def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
     assert "traceable to the SI second through the frequency standard" in trace["f_read"]
     assert trace["gamma_p_sh"].startswith(f"CODATA {m.codata} recommended value 'shielded proton gyromag. ratio")
     assert verify_record(save_record(rec, tmp_path / "nmr.record.json")).passed
+
+
+def test_html_without_monte_carlo_has_only_the_share_chart():
+    rec = make_record(mixed_budget(), created_utc=STAMP)
+    p = _Collect()
+    p.feed(render(rec, "html").decode())
+    assert p.tags.count("svg") == 1
+    assert "Monte Carlo propagation" not in render(rec, "html").decode()
