@@ -45,30 +45,36 @@ from types import MappingProxyType
 from typing import Any
 
 from .. import __version__
-from .._display import escape, fmt, html_table
-from ..errors import DigestMismatch, FieldbudgetError, InputError, RecordError, SchemaVersionError
+from .._display import fmt, html_table
+from ..errors import (
+    DigestMismatch,
+    FieldbudgetError,
+    InputError,
+    RecordError,
+    SchemaVersionError,
+)
 from .atomic import atomic_write_text
 
 __all__ = [
-    "SCHEMA_VERSION",
     "RECORD_KIND",
-    "Record",
+    "SCHEMA_VERSION",
     "Check",
-    "VerifyResult",
     "EditionComparison",
-    "make_record",
-    "save_record",
-    "load_record",
-    "record_from_dict",
-    "budget_content",
-    "verify_record",
-    "compare_editions",
-    "canonical_bytes",
-    "compute_digest",
-    "serialise",
+    "Record",
+    "VerifyResult",
     "budget_changes",
+    "budget_content",
+    "canonical_bytes",
+    "compare_editions",
+    "compute_digest",
+    "load_record",
+    "make_record",
     "monte_carlo_tolerance",
+    "record_from_dict",
+    "save_record",
+    "serialise",
     "software_versions",
+    "verify_record",
 ]
 
 SCHEMA_VERSION = "1.0"
@@ -146,7 +152,7 @@ def compute_digest(document: Mapping) -> str:
     return hashlib.sha256(canonical_bytes(content)).hexdigest()
 
 
-def serialise(record: "Record") -> str:
+def serialise(record: Record) -> str:
     """The text fieldbudget writes to a record file (indented, keys sorted, newline at the end)."""
     return json.dumps(record.to_dict(), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
 
@@ -175,7 +181,7 @@ def _versions() -> tuple[tuple[str, str], ...]:
 
 
 def _utc_now() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z")
+    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 # ----------------------------------------------------------------------------

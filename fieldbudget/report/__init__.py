@@ -18,7 +18,7 @@ from ..errors import InputError
 from ..files.atomic import atomic_write_bytes
 from .tables import ReportData, build_report_data
 
-__all__ = ["FORMATS", "SUFFIXES", "render", "write_report", "build_report_data", "ReportData"]
+__all__ = ["FORMATS", "SUFFIXES", "ReportData", "build_report_data", "render", "write_report"]
 
 FORMATS = ("html", "pdf", "md", "latex", "csv", "xlsx")
 SUFFIXES = {".html": "html", ".htm": "html", ".pdf": "pdf", ".md": "md", ".tex": "latex", ".csv": "csv",

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import jinja2
 
-__all__ = ["html_env", "markdown_env", "latex_env", "escape_markdown", "escape_latex", "Raw"]
+__all__ = ["Raw", "escape_latex", "escape_markdown", "html_env", "latex_env", "markdown_env"]
 
 _TEMPLATES = Path(__file__).with_name("templates")
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from .._display import fmt
 
-__all__ = ["share_chart", "histogram_chart"]
+__all__ = ["histogram_chart", "share_chart"]
 
 
 def share_chart(data, width: float = 520.0) -> dict:

@@ -7,7 +7,7 @@ import io
 
 from .tables import ReportData
 
-__all__ = ["render_csv", "CSV_COLUMNS"]
+__all__ = ["CSV_COLUMNS", "render_csv"]
 
 CSV_COLUMNS = ("symbol", "estimate", "unit", "distribution", "stated_as", "stated_value", "divisor", "u_x", "dof",
                "sensitivity", "u_contribution", "variance_share", "source", "reference")

@@ -16,7 +16,7 @@ from pathlib import Path
 
 from ..errors import FieldbudgetError
 
-__all__ = ["find_chromium", "html_to_pdf", "ReportToolMissing", "CHROMIUM_ARGS"]
+__all__ = ["CHROMIUM_ARGS", "ReportToolMissing", "find_chromium", "html_to_pdf"]
 
 CHROMIUM_ARGS = ("--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync", "--no-pdf-header-footer")

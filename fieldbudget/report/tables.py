@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 from .._display import fmt, fmt_dof
 
-__all__ = ["BudgetRow", "TraceLink", "ReportData", "build_report_data", "stated_uncertainty", "DISTRIBUTION_NAMES"]
+__all__ = ["DISTRIBUTION_NAMES", "BudgetRow", "ReportData", "TraceLink", "build_report_data", "stated_uncertainty"]
 
 # Words for the distribution kinds of the budget file (our own wording).
 DISTRIBUTION_NAMES = {
@@ -187,7 +187,7 @@ _META_SKIP = {"codata", "codata_edition", "kind", "measurement_format", "id", "t
 
 def _is_timebase(sym: str, spec: Mapping) -> bool:
     text = f"{sym} {spec.get('description', '')} {spec.get('source', '')}".lower()
-    return sym.startswith("y_tb") or sym.startswith("y_age") or any(h in text for h in _TIMEBASE_HINTS[:3])
+    return sym.startswith(("y_tb", "y_age")) or any(h in text for h in _TIMEBASE_HINTS[:3])
 
 
 def _trace_chain(budget: Mapping, gum: Mapping, edition: int | None, equation: str, symbol: str) -> list[TraceLink]:

@@ -26,7 +26,7 @@ from openpyxl.utils import get_column_letter
 
 from .tables import ReportData
 
-__all__ = ["render_xlsx", "BUDGET_SHEET", "CELLS"]
+__all__ = ["BUDGET_SHEET", "CELLS", "render_xlsx"]
 
 BUDGET_SHEET = "Budget"
 FIRST_ROW = 6

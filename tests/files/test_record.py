@@ -219,8 +219,9 @@ def test_model_is_data_not_code(tmp_path, mc_record):
     result = verify_record(path)
     assert not result.passed and [c.name for c in result.failures] == ["budget"]
     assert not marker.exists()
-    import fieldbudget.files.record as mod
     from pathlib import Path
+
+    import fieldbudget.files.record as mod
 
     source = Path(mod.__file__).read_text(encoding="utf-8")
     for word in ("import pickle", "pickle.load", " eval(", " exec(", "yaml.load("):
@@ -291,8 +292,8 @@ def test_a_budget_with_several_measurands_is_refused_with_a_clear_message():
 
 # -- canonical serialisation: properties ---------------------------------------------------------
 
-from hypothesis import given, settings  # noqa: E402
-from hypothesis import strategies as st  # noqa: E402
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 _json = st.recursive(
     st.none() | st.booleans() | st.integers(-(2**53), 2**53) | st.floats(allow_nan=False, allow_infinity=False)

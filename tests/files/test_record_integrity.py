@@ -13,7 +13,13 @@ import pytest
 
 from fieldbudget.errors import DigestMismatch, RecordError, SchemaVersionError
 from fieldbudget.files import atomic
-from fieldbudget.files.record import load_record, make_record, save_record, serialise, verify_record
+from fieldbudget.files.record import (
+    load_record,
+    make_record,
+    save_record,
+    serialise,
+    verify_record,
+)
 from tests.report._budgets import mixed_budget, nmr_budget
 
 STAMP = "2026-11-30T09:15:00Z"
@@ -78,7 +84,7 @@ def _caught(path) -> bool:
 
 
 def test_every_single_byte_change_to_a_content_field_is_caught(saved, tmp_path):
-    path, data = saved
+    _, data = saved
     doc = json.loads(data)
     leaves = list(_leaves(doc))
     assert len(leaves) > 80  # budget, results, settings, software, ... all included
@@ -100,7 +106,7 @@ def test_every_single_byte_change_to_a_content_field_is_caught(saved, tmp_path):
 
 def test_a_change_that_leaves_the_parsed_value_equal_is_still_caught(saved, tmp_path):
     """'1e-10' and '1E-10' parse to the same float: the file-form check catches it."""
-    path, data = saved
+    _, data = saved
     text = data.decode("utf-8")
     assert "e-10" in text
     edited = tmp_path / "same_value.json"
@@ -110,7 +116,7 @@ def test_a_change_that_leaves_the_parsed_value_equal_is_still_caught(saved, tmp_
 
 
 def test_load_refuses_tampering_with_digest_mismatch(saved, tmp_path):
-    path, data = saved
+    _, data = saved
     doc = json.loads(data)
     doc["operator"] = "someone else"
     p = tmp_path / "t.json"
@@ -128,7 +134,7 @@ def _write(tmp_path, name, content: bytes):
 
 
 def test_newer_truncated_and_wrong_type_each_have_their_own_message(saved, tmp_path):
-    path, data = saved
+    _, data = saved
     doc = json.loads(data)
 
     newer = dict(doc, schema_version="2.0")
@@ -181,7 +187,7 @@ def test_missing_file_is_a_record_error(tmp_path):
 
 
 def test_newer_minor_version_with_extra_keys_loads_and_keeps_them(saved, tmp_path):
-    path, data = saved
+    path, _ = saved
     rec = load_record(path)
     doc = rec.to_dict()
     doc["schema_version"] = "1.7"
@@ -197,7 +203,7 @@ def test_newer_minor_version_with_extra_keys_loads_and_keeps_them(saved, tmp_pat
 
 
 def test_failed_write_part_way_leaves_the_old_file_byte_identical(saved, tmp_path, monkeypatch):
-    path, data = saved
+    _, data = saved
     target = tmp_path / "archive.json"
     target.write_bytes(data)
     new = make_record(mixed_budget(), created_utc=STAMP)
@@ -228,7 +234,7 @@ def test_failed_write_part_way_leaves_the_old_file_byte_identical(saved, tmp_pat
 
 
 def test_failed_rename_leaves_the_old_file_byte_identical(saved, tmp_path, monkeypatch):
-    path, data = saved
+    _, data = saved
     target = tmp_path / "archive.json"
     target.write_bytes(data)
 
@@ -246,7 +252,7 @@ def test_a_process_killed_in_the_middle_of_a_save_leaves_the_old_file_intact(sav
     """A real SIGKILL half-way through writing the new record (POSIX only)."""
     if not hasattr(signal, "SIGKILL"):
         pytest.skip("needs SIGKILL (POSIX)")
-    path, data = saved
+    _, data = saved
     target = tmp_path / "archive.json"
     target.write_bytes(data)
     script = textwrap.dedent(f"""
@@ -266,7 +272,8 @@ def test_a_process_killed_in_the_middle_of_a_save_leaves_the_old_file_intact(sav
         atomic.os.fdopen = lambda fd, mode: Killer(real(fd, mode))
         save_record(rec, {str(target)!r})
     """)
-    proc = subprocess.run([sys.executable, "-c", script], cwd=os.getcwd(), capture_output=True, timeout=120)
+    proc = subprocess.run([sys.executable, "-c", script], cwd=os.getcwd(), capture_output=True, timeout=120,
+                          check=False)
     assert proc.returncode == -signal.SIGKILL, proc.stderr.decode()
     assert target.read_bytes() == data
     leftovers = [p for p in tmp_path.iterdir() if p.name != "archive.json"]
@@ -283,7 +290,7 @@ def test_saved_text_is_the_canonical_indented_form(saved):
 def test_byte_changes_between_the_fields_are_caught_too(saved, tmp_path):
     """Whitespace, quotes, brackets and key names: the file-form check sees any byte that moved
     (a sample of every 53rd byte of the file)."""
-    path, data = saved
+    _, data = saved
     target = tmp_path / "tampered.json"
     for pos in range(0, len(data), 53):
         flipped = bytearray(data)

@@ -209,7 +209,7 @@ def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
     counter, the frequency standard with its certificate, and the CODATA edition of gamma'_p."""
     from pathlib import Path
 
-    from fieldbudget.files.record import verify_record, save_record
+    from fieldbudget.files.record import save_record, verify_record
     from fieldbudget.nmr import NMRMeasurement
 
     data = Path(__file__).resolve().parents[1] / "nmr" / "data" / "water_cylinder_1p5T.json"

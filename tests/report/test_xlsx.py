@@ -91,7 +91,7 @@ def test_budget_sheet_holds_live_formulas_from_the_input_cells(tmp_path):
     assert ws[f"I{r}"].value == f"=SQRT(F{r}^2/3+H{r}^2/9)"  # JCGM 101:2008 6.4.3
     t = row["t"]
     assert ws[f"F{t}"].value.startswith("=STDEV(Readings!") and ws[f"G{t}"].value.startswith("=SQRT(COUNT(")
-    for s, n in row.items():
+    for n in row.values():
         assert ws[f"L{n}"].value == f"=ABS(K{n})*I{n}"
         assert isinstance(ws[f"K{n}"].value, (int, float))  # c_i as values
     assert ws[f"I{rows['sumsq']}"].value == f"=SUMSQ(L{FIRST_ROW}:L{FIRST_ROW + len(symbols) - 1})"
