@@ -122,7 +122,13 @@ class ProcedureView:
     def __init__(self, run: ProcedureRun) -> None:
         self.run = run
         proc = run.procedure
-        self.rows: dict[str, _FieldRow] = {}
+        # Every step's rows are built once; moving between steps only shows one box and hides
+        # the others (no widgets created or closed while the operator walks through the steps).
+        self._step_rows: list[dict[str, _FieldRow]] = [
+            {c.id: _FieldRow(c, run, self._value) for c in run.step_components(step)} for step in run.steps]
+        self._all_rows = {cid: row for rows in self._step_rows for cid, row in rows.items()}
+        self._step_boxes = [css(w.VBox([r.widget for r in rows.values()]), "fb-proc-step-fields",
+                                f"fb-proc-step-fields-{step.id}") for rows, step in zip(self._step_rows, run.steps)]
         self.header = css(w.HTML(
             f'<h3>{escape(proc.name)}</h3><div>{escape(proc.lab)} &middot; version {escape(proc.version)}'
             f'{" &middot; issued " + escape(proc.issued) if proc.issued else ""}</div>'
@@ -139,7 +145,7 @@ class ProcedureView:
         self.next_button = css(w.Button(description="Next", icon="arrow-right"), "fb-proc-next")
         self.training_toggle = css(w.ToggleButton(value=run.training, description="Training mode",
                                                   icon="graduation-cap"), "fb-proc-training-toggle")
-        self.fields = css(w.VBox(), "fb-proc-fields")
+        self.fields = css(w.VBox(self._step_boxes), "fb-proc-fields")
         fixed_rows = "".join(
             f"<tr><td>{escape(c.label)}</td><td>{escape(_text_of(c.value))} {escape(c.unit)}</td>"
             f"<td>{escape(c.source)}</td></tr>" for c in proc.fixed_components)
@@ -188,13 +194,15 @@ class ProcedureView:
         self.render()
 
     # ------------------------------------------------------------ rendering
+    @property
+    def rows(self) -> dict[str, _FieldRow]:
+        """The rows of the current step, by component id."""
+        return self._step_rows[self.run.step_index]
+
     def _render_step(self) -> None:
-        run = self.run
-        for row in self.rows.values():
-            row.close()
-        self.rows = {c.id: _FieldRow(c, run, self._value) for c in run.step_components()}
-        self.fields.children = [r.widget for r in self.rows.values()]
-        self._shown_step = run.step_index
+        for i, box in enumerate(self._step_boxes):
+            box.layout.display = None if i == self.run.step_index else "none"
+        self._shown_step = self.run.step_index
 
     def render(self) -> None:
         """Re-render everything from the run's state (one batch of widget updates)."""
@@ -218,7 +226,7 @@ class ProcedureView:
             self.next_button.disabled = run.is_last
             if self.training_toggle.value != run.training:
                 self.training_toggle.value = run.training
-            for row in self.rows.values():
+            for row in self._all_rows.values():
                 row.show_training(run.training)
             self._render_budget()
 
@@ -233,8 +241,8 @@ class ProcedureView:
         else:
             self.status.value = "".join(status_html(m) for m in run.errors.values())
             for cid, text in run.errors.items():
-                if cid in self.rows:
-                    self.rows[cid].set_message(text)
+                if cid in self._all_rows:
+                    self._all_rows[cid].set_message(text)
         r = run.result
         # A calibration's own summary (every point, the curve, conformity); an NMR run's budget says it all.
         o = run.outcome
@@ -258,7 +266,7 @@ class ProcedureView:
         """Stop listening to the run and close every widget."""
         self._unsubscribe()
         self.budget.close()
-        for row in self.rows.values():
+        for row in self._all_rows.values():
             row.close()
         self.widget.close()
 
