@@ -36,7 +36,7 @@ def test_demo_run_matches_the_example_measurement_file():
 
 def test_demo_command_writes_its_files(tmp_path, capsys):
     from fieldbudget.cli import main
-    from fieldbudget.files.record import load_record
+    from fieldbudget.files.record import load_record, verify_record
 
     out = tmp_path / "demo"
     assert main(["demo", "--out", str(out), "--trials", "2000"]) == 0
@@ -51,6 +51,8 @@ def test_demo_command_writes_its_files(tmp_path, capsys):
     assert record.procedure == {"name": "Reference field by proton NMR", "version": "1.0"}
     assert record.operator == "R. Okafor (invented)"
     assert json.loads((out / "demo-acceptance.json").read_text())["accepted"] is True
+    check = verify_record(out / "demo-record.json")      # an assessor's re-check of the demo record
+    assert check.passed, [str(c) for c in check.failures]
     html = (out / "demo-report.html").read_text("utf-8")
     assert "Reference field by proton NMR" in html
 
