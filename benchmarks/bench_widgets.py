@@ -21,9 +21,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from fieldbudget.drafts import BudgetDraft  # noqa: E402
-from fieldbudget.drafts.nmr_draft import NMRDraft  # noqa: E402
-from fieldbudget.widgets import BudgetView, InputEditor, NMRForm  # noqa: E402
+from fieldbudget.drafts import BudgetDraft
+from fieldbudget.drafts.nmr_draft import NMRDraft
+from fieldbudget.widgets import BudgetView, InputEditor, NMRForm
 
 # Invented demo data (a test magnet near 1 T, a water-cylinder proton probe).
 DESCRIPTION = {
@@ -80,9 +80,9 @@ def bench_nmr(repeats: int) -> float:
 
 
 def bench_editor(repeats: int) -> float:
-    rows = [dict(symbol=f"x{i}", estimate=str(1.0 + 0.1 * i), uncertainty="0.01") for i in range(15)]
+    rows = [{"symbol": f"x{i}", "estimate": str(1.0 + 0.1 * i), "uncertainty": "0.01"} for i in range(15)]
     draft = BudgetDraft(model=" * ".join(f"x{i}" for i in range(15)), rows=rows)
-    editor, view = InputEditor(draft), BudgetView(draft)
+    editor, _view = InputEditor(draft), BudgetView(draft)
     box = editor._row_views[draft.rows[3].id].texts["uncertainty"].box
     values = ["0.02", "0.03"]
     times = []

@@ -9,11 +9,12 @@ from __future__ import annotations
 
 import base64
 import io
+import itertools
 from typing import Any
 
 from matplotlib.figure import Figure
 
-__all__ = ["mc_histogram", "share_chart", "to_png", "to_svg", "img_html"]
+__all__ = ["img_html", "mc_histogram", "share_chart", "to_png", "to_svg"]
 
 _COLOURS = {"mc": "#4a7ab5", "symmetric": "#c0392b", "shortest": "#7d3c98", "gum": "#1e8449"}
 
@@ -34,7 +35,7 @@ def mc_histogram(mc: Any, gum: Any = None, *, ax: Any = None, title: str | None 
     if ax is None:
         fig = Figure(figsize=(6.4, 3.4), dpi=90)
         ax = fig.add_subplot()
-    widths = [b - a for a, b in zip(edges[:-1], edges[1:])]
+    widths = [b - a for a, b in itertools.pairwise(edges)]
     ax.bar(edges[:-1], counts, width=widths, align="edge", color=_COLOURS["mc"], alpha=0.55,
            label=f"Monte Carlo, M = {mc.trials}")
     top = max(counts) if len(counts) else 1

@@ -13,5 +13,15 @@ from .field import Field, message_for
 from .mc_job import MonteCarloJob
 from .nmr_draft import NMRDraft
 
-__all__ = ["Field", "message_for", "BudgetDraft", "InputRow", "DISTRIBUTIONS", "MEANINGS", "ROW_KEYS",
-           "MonteCarloJob", "NMRDraft", "CalibrationDraft"]
+__all__ = [
+           "DISTRIBUTIONS",
+           "MEANINGS",
+           "ROW_KEYS",
+           "BudgetDraft",
+           "CalibrationDraft",
+           "Field",
+           "InputRow",
+           "MonteCarloJob",
+           "NMRDraft",
+           "message_for",
+]

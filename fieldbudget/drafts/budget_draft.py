@@ -14,6 +14,7 @@ errors (which name the field) are routed back to the box they came from.
 from __future__ import annotations
 
 import itertools
+import logging
 import math
 import re
 from collections.abc import Callable, Iterable
@@ -34,7 +35,9 @@ from .field import (
     parse_text,
 )
 
-__all__ = ["BudgetDraft", "InputRow", "DISTRIBUTIONS", "MEANINGS", "ROW_KEYS"]
+_log = logging.getLogger("fieldbudget.drafts")
+
+__all__ = ["DISTRIBUTIONS", "MEANINGS", "ROW_KEYS", "BudgetDraft", "InputRow"]
 
 DISTRIBUTIONS = ("normal", "rectangular", "triangular", "arcsine")
 #: What the stated uncertainty means.
@@ -66,13 +69,13 @@ def _row_fields(symbol: str = "", estimate: str = "0", unit: str = "", distribut
 def _num(x: float) -> str:
     """Shortest text that reads back as the same float."""
     s = repr(float(x))
-    return s[:-2] if s.endswith(".0") else s
+    return s.removesuffix(".0")
 
 
 class InputRow:
     """One input quantity as the user typed it; ``fields`` maps each of :data:`ROW_KEYS` to a :class:`Field`."""
 
-    __slots__ = ("id", "fields")
+    __slots__ = ("fields", "id")
 
     def __init__(self, **texts: str) -> None:
         self.id = next(_ids)
@@ -106,7 +109,9 @@ class InputRow:
 
 
 def _engine():
-    from .. import engine  # imported late so that a missing engine shows as a message, not an import error
+    from .. import (
+        engine,  # imported late so that a missing engine shows as a message, not an import error
+    )
 
     return engine
 
@@ -176,7 +181,7 @@ class BudgetDraft:
 
     # -- construction from an engine Budget --------------------------------------
     @classmethod
-    def from_budget(cls, budget: Any) -> "BudgetDraft":
+    def from_budget(cls, budget: Any) -> BudgetDraft:
         """A draft whose fields show ``budget`` (any engine Budget)."""
         rows = [cls._row_texts(q) for q in budget.inputs]
         exprs = getattr(budget.model, "expressions", None)
@@ -453,6 +458,10 @@ class BudgetDraft:
             result = eng.evaluate(budget)
         except FieldbudgetError as err:
             self._place(err)
+            return False
+        except Exception as err:  # noqa: BLE001 - a defect below: logged, shown, the last good state kept
+            _log.exception("internal error while rebuilding %r", self)
+            self.general_error = message_for(err)
             return False
         self.last_good_budget, self.last_good_result, self.current = budget, result, True
         return True

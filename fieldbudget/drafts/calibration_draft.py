@@ -14,6 +14,7 @@ showing the budget of the selected point.
 
 from __future__ import annotations
 
+import logging
 import math
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
@@ -21,7 +22,9 @@ from typing import Any
 from ..errors import FieldbudgetError, InputError
 from .field import Field, message_for, parse_choice, parse_readings, parse_text
 
-__all__ = ["CalibrationDraft", "POINT_KEYS", "SET_KEYS"]
+_log = logging.getLogger("fieldbudget.drafts")
+
+__all__ = ["POINT_KEYS", "SET_KEYS", "CalibrationDraft"]
 
 Listener = Callable[["CalibrationDraft"], None]
 
@@ -87,7 +90,7 @@ def _text(v: Any) -> str:
         return " ".join(_text(x) for x in v)
     if isinstance(v, float):
         s = repr(v)
-        return s[:-2] if s.endswith(".0") else s
+        return s.removesuffix(".0")
     return str(v)
 
 
@@ -262,6 +265,10 @@ class CalibrationDraft:
                     rule=s["decision_rule"].value, measurand=f"error at {pr.name}") for pr in res.points)
         except FieldbudgetError as err:
             self._place(err, None)
+            return False
+        except Exception as err:  # noqa: BLE001 - a defect below: logged, shown, the last good state kept
+            _log.exception("internal error while rebuilding %r", self)
+            self.general_error = message_for(err)
             return False
         self.selected = min(self.selected, len(points) - 1)
         self.calibration_set, self.calibration, self.curve, self.conformity = cset, res, curve, conformity

@@ -20,16 +20,16 @@ from ..errors import FieldbudgetError, InputError
 __all__ = [
     "Field",
     "message_for",
-    "parse_text",
-    "parse_symbol",
-    "parse_number",
-    "parse_nonnegative",
-    "parse_positive",
-    "parse_dof",
-    "parse_correlation",
-    "parse_readings",
     "parse_choice",
+    "parse_correlation",
+    "parse_dof",
+    "parse_nonnegative",
+    "parse_number",
     "parse_optional_number",
+    "parse_positive",
+    "parse_readings",
+    "parse_symbol",
+    "parse_text",
 ]
 
 Parser = Callable[[str, str], Any]
@@ -173,7 +173,7 @@ class Field:
         the layers below accepted it.
     """
 
-    __slots__ = ("name", "text", "value", "error", "_parse")
+    __slots__ = ("_parse", "error", "name", "text", "value")
 
     def __init__(self, name: str, text: str = "", parse: Parser = parse_text) -> None:
         self.name = name

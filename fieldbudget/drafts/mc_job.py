@@ -16,7 +16,7 @@ from typing import Any
 from ..errors import FieldbudgetError, InputError, MonteCarloCancelled
 from .field import Field, message_for
 
-__all__ = ["MonteCarloJob", "STATES"]
+__all__ = ["STATES", "MonteCarloJob"]
 
 STATES = ("idle", "running", "done", "cancelled", "failed")
 
@@ -78,7 +78,7 @@ class MonteCarloJob:
         self._listeners: list[Callable[[MonteCarloJob], None]] = []
         self._lock = threading.Lock()
 
-    def subscribe(self, listener: Callable[["MonteCarloJob"], None]) -> Callable[[], None]:
+    def subscribe(self, listener: Callable[[MonteCarloJob], None]) -> Callable[[], None]:
         self._listeners.append(listener)
         return lambda: self._listeners.remove(listener) if listener in self._listeners else None
 
@@ -86,7 +86,7 @@ class MonteCarloJob:
         for fn in list(self._listeners):
             try:
                 fn(self)
-            except Exception:  # a broken view must not kill the worker
+            except Exception:  # noqa: BLE001, S110 - a broken view must not kill the worker
                 pass
 
     @property
@@ -143,7 +143,7 @@ class MonteCarloJob:
             self.state, self.error = "cancelled", str(err)
         except FieldbudgetError as err:
             self.state, self.error = "failed", message_for(err)
-        except Exception as err:  # shown, never raised into a thread nobody joins
+        except Exception as err:  # noqa: BLE001 - shown, never raised into a thread nobody joins
             self.state, self.error = "failed", message_for(err)
         self._notify()
 

@@ -17,8 +17,8 @@ from __future__ import annotations
 
 import copy
 import json
+import logging
 import math
-import re
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -28,7 +28,9 @@ from ..errors import BudgetFileError, FieldbudgetError, InputError
 from .field import Field, message_for, parse_choice, parse_readings, parse_text
 from .readings import readings_from_csv
 
-__all__ = ["NMRDraft", "FieldSpec", "NMR_FIELDS", "SECTIONS"]
+_log = logging.getLogger("fieldbudget.drafts")
+
+__all__ = ["NMR_FIELDS", "SECTIONS", "FieldSpec", "NMRDraft"]
 
 
 @dataclass(frozen=True)
@@ -152,7 +154,7 @@ def _text_of(value: Any) -> str:
         return "true" if value else "false"
     if isinstance(value, float):
         s = repr(value)
-        return s[:-2] if s.endswith(".0") else s
+        return s.removesuffix(".0")
     if isinstance(value, (list, tuple)):
         return "\n".join(_text_of(v) for v in value) if len(value) > 3 else " ".join(_text_of(v) for v in value)
     return str(value)
@@ -235,10 +237,9 @@ class NMRDraft:
         for path, value in leaves.items():
             if path not in specs and path != "format":
                 specs[path] = _spec_for(path, value)
-        for path in ("nucleus", "codata"):
-            if path in specs and specs[path].kind == "choice" and path in self.choices and path in leaves:
-                if leaves[path] not in self.choices[path]:  # keep a value given in the file selectable
-                    self.choices[path] = (leaves[path], *self.choices[path])
+        for path in ("nucleus", "codata"):  # keep a value given in the file selectable
+            if path in self.choices and path in leaves and leaves[path] not in self.choices[path]:
+                self.choices[path] = (leaves[path], *self.choices[path])
         self.specs: dict[str, FieldSpec] = specs
         self.fields: dict[str, Field] = {
             p: Field(p, _text_of(leaves.get(p)), _parser(s, self.choices)) for p, s in specs.items()}
@@ -254,7 +255,7 @@ class NMRDraft:
         self.rebuild()
 
     @classmethod
-    def from_file(cls, path: str | Path) -> "NMRDraft":
+    def from_file(cls, path: str | Path) -> NMRDraft:
         p = Path(path)
         return cls(json.loads(p.read_text(encoding="utf-8")), base_dir=p.parent)
 
@@ -394,6 +395,10 @@ class NMRDraft:
             res = m.evaluate()
         except FieldbudgetError as err:
             self._place(err)
+            return False
+        except Exception as err:  # noqa: BLE001 - a defect below: logged, shown, the last good state kept
+            _log.exception("internal error while rebuilding %r", self)
+            self.general_error = message_for(err)
             return False
         self.measurement, self.nmr_result = m, res
         self.last_good_budget, self.last_good_result = res.budget, res.result

@@ -17,13 +17,11 @@ from __future__ import annotations
 
 from .app import App, app, budget_app, calibration_app, nmr_app
 from .budget_view import BudgetView
+from .calibration_form import CalibrationForm
 from .export_bar import ExportBar
 from .input_editor import InputEditor
 from .montecarlo_panel import MonteCarloPanel
 from .nmr_form import NMRForm
 
-__all__ = ["App", "app", "budget_app", "calibration_app", "nmr_app", "BudgetView", "ExportBar", "InputEditor", "MonteCarloPanel",
-           "NMRForm"]
-from .calibration_form import CalibrationForm  # noqa: E402
-
-__all__.append("CalibrationForm")
+__all__ = ["App", "BudgetView", "CalibrationForm", "ExportBar", "InputEditor", "MonteCarloPanel", "NMRForm",
+           "app", "budget_app", "calibration_app", "nmr_app"]

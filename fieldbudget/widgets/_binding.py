@@ -19,7 +19,7 @@ from .._display import escape
 from ..drafts.field import Field, message_for
 from ..errors import FieldbudgetError
 
-__all__ = ["guarded", "BoundText", "message_html", "status_html", "css"]
+__all__ = ["BoundText", "css", "guarded", "message_html", "status_html"]
 
 log = logging.getLogger("fieldbudget.widgets")
 
@@ -51,7 +51,7 @@ def guarded(fn: Callable) -> Callable:
             return fn(self, *args, **kwargs)
         except FieldbudgetError as err:
             self.status.value = status_html(message_for(err))
-        except Exception as err:  # noqa: BLE001 - the point is to catch everything
+        except Exception as err:
             log.exception("internal error in %s", fn.__qualname__)
             self.status.value = status_html(f"internal error ({type(err).__name__}: {err}); "
                                             "please report it with the notebook", "internal")
@@ -67,7 +67,7 @@ class BoundText:
     (Enter or leaving the box; ``continuous_update=False``).
     """
 
-    __slots__ = ("field", "box", "msg", "widget", "_on_text", "_syncing")
+    __slots__ = ("_on_text", "_syncing", "box", "field", "msg", "widget")
 
     def __init__(self, field: Field, on_text: Callable[[str], None], *, width: str = "8em",
                  placeholder: str = "", key: str = "", area: bool = False,

@@ -31,9 +31,9 @@ from .input_editor import InputEditor
 from .montecarlo_panel import MonteCarloPanel
 from .nmr_form import NMRForm
 
-__all__ = ["App", "app", "budget_app", "nmr_app", "calibration_app"]
+__all__ = ["App", "app", "budget_app", "calibration_app", "nmr_app"]
 
-_LIVE: "weakref.WeakValueDictionary[int, App]" = weakref.WeakValueDictionary()
+_LIVE: weakref.WeakValueDictionary[int, App] = weakref.WeakValueDictionary()
 
 
 class App(w.VBox):

@@ -17,7 +17,7 @@ import ipywidgets as w
 from .._display import escape, fmt, fmt_dof
 from ._binding import css, guarded, status_html
 
-__all__ = ["BudgetView", "budget_table_html", "share_bars_html", "summary_html", "format_u"]
+__all__ = ["BudgetView", "budget_table_html", "format_u", "share_bars_html", "summary_html"]
 
 
 def format_u(x: float | None, unit: str = "") -> str:
@@ -100,7 +100,7 @@ def _statement(result: Any) -> str:
     st = getattr(result, "statement", None)
     try:
         return st() if callable(st) else (st or "")
-    except Exception:  # the statement is a nicety; the numbers are shown anyway
+    except Exception:  # noqa: BLE001 - the statement is a nicety; the numbers are shown anyway
         return ""
 
 

@@ -70,7 +70,7 @@ def curve_html(draft: CalibrationDraft) -> str:
 
 
 class _PointRow:
-    def __init__(self, form: "CalibrationForm", index: int) -> None:
+    def __init__(self, form: CalibrationForm, index: int) -> None:
         fields = form.draft.points[index]
         self.texts = {k: BoundText(fields[k], lambda t, k=k: form._set(index, k, t), width=wd, key=f"cal-{k}")
                       for k, _, wd in _POINT_COLUMNS}

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import ipywidgets as w
 
-from ..drafts.budget_draft import DISTRIBUTIONS, MEANINGS, BudgetDraft, InputRow
+from ..drafts.budget_draft import DISTRIBUTIONS, BudgetDraft, InputRow
 from ._binding import BoundText, css, guarded, message_html, status_html
 
 __all__ = ["InputEditor"]
@@ -22,7 +22,7 @@ _WIDTHS = {"symbol": "6em", "estimate": "10em", "unit": "5em", "uncertainty": "8
 class _RowView:
     """The widgets of one input row."""
 
-    def __init__(self, editor: "InputEditor", row: InputRow) -> None:
+    def __init__(self, editor: InputEditor, row: InputRow) -> None:
         self.row = row
         f = row.fields
         self.texts = {k: BoundText(f[k], lambda t, k=k: editor._set(self.row, k, t), width=_WIDTHS[k], key=k,

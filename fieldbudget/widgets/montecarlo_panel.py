@@ -18,7 +18,7 @@ from ..drafts.mc_job import MonteCarloJob
 from ._binding import BoundText, css, guarded, status_html
 from .budget_view import format_u
 
-__all__ = ["MonteCarloPanel", "verdict_html", "intervals_html"]
+__all__ = ["MonteCarloPanel", "intervals_html", "verdict_html"]
 
 
 def _decimals(U: float) -> int:

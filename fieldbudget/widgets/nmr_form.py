@@ -24,7 +24,7 @@ def _css_key(path: str) -> str:
 class _ChoiceBox:
     """A dropdown over a choice field, with its message."""
 
-    def __init__(self, form: "NMRForm", spec: FieldSpec, options: tuple) -> None:
+    def __init__(self, form: NMRForm, spec: FieldSpec, options: tuple) -> None:
         self.field = form.draft.fields[spec.path]
         opts = list(options)
         if self.field.text not in opts:

@@ -118,7 +118,7 @@ def jupyter_lab(chromium, served, tmp_path_factory):
                 try:
                     urllib.request.urlopen(url, timeout=2)
                     break
-                except Exception:
+                except OSError:
                     if proc.poll() is not None or time.monotonic() > end:
                         raise RuntimeError(f"JupyterLab did not start:\n{log_path.read_text()[-3000:]}")
                     time.sleep(0.25)
@@ -138,7 +138,7 @@ def voila(chromium, served, tmp_path_factory):
         cmd = [sys.executable, "-m", "voila", "--no-browser", "--Voila.ip=127.0.0.1", f"--port={port}",
                f"--token={token}", "--VoilaConfiguration.show_tracebacks=True", str(notebook)]
         log_path = home / "voila.log"
-        log = open(log_path, "w")
+        log = open(log_path, "w")  # noqa: SIM115 - closed after the server stops, at teardown
         proc = subprocess.Popen(cmd, stdout=log, stderr=subprocess.STDOUT, env=isolated_env(home),
                                 cwd=notebook.parent)
         procs.append((proc, log))

@@ -13,15 +13,23 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from fieldbudget.drafts import ROW_KEYS, BudgetDraft
-from fieldbudget.engine import Budget, InputQuantity, Measurand, Model, Normal, Rectangular, evaluate
+from fieldbudget.engine import (
+    Budget,
+    InputQuantity,
+    Measurand,
+    Model,
+    Normal,
+    Rectangular,
+    evaluate,
+)
 
 
 def linear_draft():
     # y = a + b: every sensitivity coefficient is 1
     return BudgetDraft(model="a + b", measurand="y", measurand_unit="V", rows=[
-        dict(symbol="a", estimate="1.0", unit="V", uncertainty="0.3", source="cert. <b>&"),
-        dict(symbol="b", estimate="2.0", unit="V", distribution="rectangular", meaning="half-width",
-             uncertainty="0.6")])
+        {"symbol": "a", "estimate": "1.0", "unit": "V", "uncertainty": "0.3", "source": "cert. <b>&"},
+        {"symbol": "b", "estimate": "2.0", "unit": "V", "distribution": "rectangular", "meaning": "half-width",
+             "uncertainty": "0.6"}])
 
 
 def test_typed_budget_matches_gum_formula():
@@ -85,7 +93,7 @@ def test_bad_text_keeps_last_good_budget_and_the_text(key, text, message):
 
 
 def test_impossible_correlation_is_marked_beside_a_correlation_field():
-    d = BudgetDraft(model="a + b + c", rows=[dict(symbol=s, estimate="1", uncertainty="1") for s in "abc"])
+    d = BudgetDraft(model="a + b + c", rows=[{"symbol": s, "estimate": "1", "uncertainty": "1"} for s in "abc"])
     d.set_correlation("a", "b", "0.9")
     d.set_correlation("a", "c", "0.9")
     good = d.result

@@ -17,7 +17,7 @@ READINGS = [0.50014, 0.50016, 0.50015, 0.50017, 0.50013]
 
 
 def draft(**settings):
-    pts = [dict(name=f"P{i}", reference_t=b, u_reference_t=1e-8, readings_t=[r - 0.5 + b for r in READINGS])
+    pts = [{"name": f"P{i}", "reference_t": b, "u_reference_t": 1e-8, "readings_t": [r - 0.5 + b for r in READINGS]}
            for i, b in enumerate((0.2, 0.5, 1.0), 1)]
     return CalibrationDraft(pts, {"instrument": "teslameter HT-4 (invented)", "resolution_t": 1e-5, **settings})
 

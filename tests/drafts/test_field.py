@@ -4,8 +4,16 @@ import math
 
 import pytest
 
-from fieldbudget.drafts.field import (Field, parse_choice, parse_correlation, parse_dof, parse_nonnegative,
-                                      parse_number, parse_readings, parse_symbol)
+from fieldbudget.drafts.field import (
+    Field,
+    parse_choice,
+    parse_correlation,
+    parse_dof,
+    parse_nonnegative,
+    parse_number,
+    parse_readings,
+    parse_symbol,
+)
 
 
 def test_good_text_parses_and_clears_message():

@@ -15,8 +15,8 @@ from fieldbudget.drafts import BudgetDraft, MonteCarloJob
 
 
 def draft():
-    return BudgetDraft(model="a + b", rows=[dict(symbol="a", estimate="1", uncertainty="0.3"),
-                                            dict(symbol="b", estimate="2", uncertainty="0.4")])
+    return BudgetDraft(model="a + b", rows=[{"symbol": "a", "estimate": "1", "uncertainty": "0.3"},
+                                            {"symbol": "b", "estimate": "2", "uncertainty": "0.4"}])
 
 
 def test_run_in_thread_gives_result_progress_and_validation():

@@ -44,9 +44,9 @@ def cells(html):
 def draft():
     # y = a * b: c_a = b = 2, c_b = a = 1 (JCGM 100:2008 5.1.3, eq. (11a))
     return BudgetDraft(model="a * b", measurand="P", measurand_unit="W", rows=[
-        dict(symbol="a", estimate="1", unit="A", uncertainty="0.01"),
-        dict(symbol="b", estimate="2", unit="V", distribution="rectangular", meaning="half-width",
-             uncertainty="0.03")])
+        {"symbol": "a", "estimate": "1", "unit": "A", "uncertainty": "0.01"},
+        {"symbol": "b", "estimate": "2", "unit": "V", "distribution": "rectangular", "meaning": "half-width",
+             "uncertainty": "0.03"}])
 
 
 def test_table_has_sensitivity_contribution_and_share(draft):
@@ -73,7 +73,7 @@ def test_chart_can_be_hidden(draft):
 
 
 def test_no_budget_yet_says_why():
-    d = BudgetDraft(model="a", rows=[dict(symbol="a", uncertainty="-1")])
+    d = BudgetDraft(model="a", rows=[{"symbol": "a", "uncertainty": "-1"}])
     v = BudgetView(d)
     assert "no budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
 

@@ -8,7 +8,7 @@ from fieldbudget.widgets import calibration_app
 
 @pytest.fixture
 def app():
-    pts = [dict(reference_t=b, u_reference_t=1e-8, readings_t=[b + 1.5e-4, b + 1.6e-4, b + 1.4e-4])
+    pts = [{"reference_t": b, "u_reference_t": 1e-8, "readings_t": [b + 1.5e-4, b + 1.6e-4, b + 1.4e-4]}
            for b in (0.2, 0.5, 1.0)]
     return calibration_app(CalibrationDraft(pts, {"resolution_t": 1e-5, "tolerance_t": 1e-3}), monte_carlo=False)
 

@@ -3,17 +3,17 @@
 import json
 
 import pytest
+from nmr_description import nmr_description
 
 from fieldbudget.drafts import BudgetDraft
 from fieldbudget.files.budget_file import load_budget
 from fieldbudget.widgets import App, ExportBar, app
-from nmr_description import nmr_description
 
 
 @pytest.fixture
 def draft():
-    return BudgetDraft(model="a + b", rows=[dict(symbol="a", estimate="1", uncertainty="0.3"),
-                                            dict(symbol="b", estimate="2", uncertainty="0.4")])
+    return BudgetDraft(model="a + b", rows=[{"symbol": "a", "estimate": "1", "uncertainty": "0.3"},
+                                            {"symbol": "b", "estimate": "2", "uncertainty": "0.4"}])
 
 
 def test_save_budget_file_round_trips(draft, tmp_path):
@@ -36,7 +36,7 @@ def test_report_formats_that_exist(draft, tmp_path):
 
 
 def test_nothing_to_save_gives_a_message(tmp_path):
-    d = BudgetDraft(model="a", rows=[dict(symbol="a", uncertainty="-1")])
+    d = BudgetDraft(model="a", rows=[{"symbol": "a", "uncertainty": "-1"}])
     bar = ExportBar(d, folder=tmp_path)
     bar.save_button.click()
     assert "nothing to save yet" in bar.status.value and not list(tmp_path.iterdir())

@@ -18,8 +18,8 @@ from fieldbudget.widgets import BudgetView, InputEditor
 @pytest.fixture
 def views():
     d = BudgetDraft(model="a + b", measurand="y", measurand_unit="V", rows=[
-        dict(symbol="a", estimate="1", unit="V", uncertainty="0.3", source="cert. <b>&"),
-        dict(symbol="b", estimate="2", unit="V", uncertainty="0.4")])
+        {"symbol": "a", "estimate": "1", "unit": "V", "uncertainty": "0.3", "source": "cert. <b>&"},
+        {"symbol": "b", "estimate": "2", "unit": "V", "uncertainty": "0.4"}])
     return d, InputEditor(d), BudgetView(d)
 
 
@@ -59,7 +59,7 @@ def test_bad_value_message_beside_field_last_good_stays(views, key, text):
 
 
 def test_impossible_correlation_message_beside_correlation(views):
-    d, ed, bv = views
+    d, ed, _bv = views
     d.add_row(symbol="c", estimate="0", uncertainty="0.1")
     ed.model.box.value = "a + b + c"
     for a, b, r in (("a", "b", "0.9"), ("a", "c", "0.9")):
@@ -74,7 +74,7 @@ def test_impossible_correlation_message_beside_correlation(views):
 
 
 def test_unknown_symbol_in_model_message_beside_model(views):
-    d, ed, bv = views
+    _d, ed, _bv = views
     ed.model.box.value = "a + q"
     assert "&#x27;q&#x27; is not an input" in ed.model.msg.value
     assert ed.model.box.value == "a + q"
@@ -94,7 +94,7 @@ def test_add_move_remove_rows_with_buttons(views):
 
 
 def test_meaning_dropdown_shows_the_boxes_it_needs(views):
-    d, ed, bv = views
+    d, ed, _bv = views
     rv = ed._row_views[d.rows[0].id]
     rv.meaning.value = "readings"
     assert rv.texts["readings"].widget.layout.display is None
@@ -108,7 +108,7 @@ def test_meaning_dropdown_shows_the_boxes_it_needs(views):
 
 
 def test_no_exception_escapes_a_callback(views, monkeypatch):
-    d, ed, bv = views
+    d, ed, _bv = views
 
     def boom(*a, **k):
         raise RuntimeError("kaput")
@@ -126,7 +126,7 @@ def test_no_exception_escapes_a_callback(views, monkeypatch):
 
 
 def test_text_boxes_commit_on_enter_and_are_unbounded(views):
-    d, ed, bv = views
+    d, ed, _bv = views
     bt = row_box(ed, 0, "estimate")
     assert bt.box.continuous_update is False
     bt.box.value = "1e300"  # no silent clamping
@@ -134,11 +134,11 @@ def test_text_boxes_commit_on_enter_and_are_unbounded(views):
 
 
 def test_user_text_is_escaped_in_the_table(views):
-    d, ed, bv = views
+    _d, _ed, bv = views
     assert "cert. &lt;b&gt;&amp;" in bv.table.value and "<b>&" not in bv.table.value
 
 
 def test_reprs_are_short(views):
-    d, ed, bv = views
+    _d, ed, bv = views
     assert repr(ed) == "<InputEditor over <BudgetDraft y = 'a + b', 2 inputs, current>>"
     assert repr(bv).startswith("<BudgetView over <BudgetDraft")

@@ -13,8 +13,8 @@ from fieldbudget.widgets import MonteCarloPanel
 
 @pytest.fixture
 def draft():
-    return BudgetDraft(model="a + b", rows=[dict(symbol="a", estimate="1", uncertainty="0.3"),
-                                            dict(symbol="b", estimate="2", uncertainty="0.4")])
+    return BudgetDraft(model="a + b", rows=[{"symbol": "a", "estimate": "1", "uncertainty": "0.3"},
+                                            {"symbol": "b", "estimate": "2", "uncertainty": "0.4"}])
 
 
 def test_run_shows_histogram_intervals_and_verdict(draft):

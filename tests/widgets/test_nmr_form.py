@@ -4,11 +4,11 @@ import datetime
 import re
 
 import pytest
+from nmr_description import nmr_description
 
 from fieldbudget.drafts.nmr_draft import NMRDraft
 from fieldbudget.widgets import BudgetView, NMRForm
 from fieldbudget.widgets.budget_view import format_u
-from nmr_description import nmr_description
 
 
 @pytest.fixture
@@ -38,7 +38,7 @@ def test_bad_value_message_beside_the_field(form):
 
 
 def test_physics_warning_beside_the_field_it_concerns(form):
-    d, f, v = form
+    _d, f, _v = form
     f.boxes["sample.temperature_C"].box.value = "60"
     assert "outside 5 to 45 degC" in f.warnings["sample.temperature_C"].value
     assert f.warnings["gradient_T_per_m"].value == ""
@@ -47,19 +47,19 @@ def test_physics_warning_beside_the_field_it_concerns(form):
 
 
 def test_choices_for_nucleus_and_edition(form):
-    d, f, v = form
+    d, f, _v = form
     assert "2018" in f.boxes["codata"].box.options
     f.boxes["codata"].box.value = "2018"
     assert d.budget.metadata["codata"] == 2018
 
 
 def test_readings_pasted_and_uploaded(form):
-    d, f, v = form
+    d, f, _v = form
     f.boxes["frequency.readings_Hz"].box.value = "42576395.1, 42576395.3\n42576395.2"
     assert d.result.contribution("f_read").dof == 2
     content = b"time,frequency_Hz\n1,42576395.0\n2,42576395.4\n3,42576395.2\n4,42576395.2\n"
     f.upload.value = ({"name": "ct9.csv", "type": "text/csv", "size": len(content), "content": memoryview(content),
-                       "last_modified": datetime.datetime(2026, 11, 30, tzinfo=datetime.timezone.utc)},)
+                       "last_modified": datetime.datetime(2026, 11, 30, tzinfo=datetime.UTC)},)
     assert d.result.contribution("f_read").dof == 3
     assert f.boxes["frequency.readings_Hz"].box.value.splitlines()[0] == "42576395"
 
@@ -69,7 +69,7 @@ def test_repr(form):
 
 
 def test_no_exception_escapes_a_callback(form, monkeypatch):
-    d, f, v = form
+    d, f, _v = form
 
     def boom(*a, **k):
         raise ZeroDivisionError("deep inside")
@@ -80,5 +80,5 @@ def test_no_exception_escapes_a_callback(form, monkeypatch):
     monkeypatch.setattr(d, "load_counter_csv", boom)
     content = b"f\n1\n2\n"
     f.upload.value = ({"name": "c.csv", "type": "text/csv", "size": len(content), "content": memoryview(content),
-                       "last_modified": datetime.datetime(2026, 11, 30, tzinfo=datetime.timezone.utc)},)
+                       "last_modified": datetime.datetime(2026, 11, 30, tzinfo=datetime.UTC)},)
     assert "internal error" in f.status.value
