@@ -19,7 +19,7 @@ from pathlib import Path
 from .procedure import Procedure, load_procedure
 from .run import ProcedureRun
 
-__all__ = ["DEMO_FILES", "DEMO_ENTRIES", "demo_file", "demo_procedure", "demo_readings", "demo_run"]
+__all__ = ["DEMO_ENTRIES", "DEMO_FILES", "demo_file", "demo_procedure", "demo_readings", "demo_run"]
 
 DEMO_FILES = ("nmr-reference-field.toml", "counter-readings-2026-11-18.csv")
 

@@ -24,7 +24,7 @@ from .. import _display
 from ..errors import FieldbudgetError, InputError
 from .procedure import AcceptanceLimit, Component, Procedure, Step
 
-__all__ = ["ProcedureRun", "LimitVerdict", "AcceptanceReport", "result_quantities"]
+__all__ = ["AcceptanceReport", "LimitVerdict", "ProcedureRun", "result_quantities"]
 
 Listener = Callable[["ProcedureRun"], None]
 RECORD_PREFIX = "record."

@@ -40,7 +40,7 @@ import numpy as np
 from .. import _display
 from ..errors import BudgetFileError
 
-__all__ = ["TeslameterCalibration", "TeslameterOutcome", "SHARED_REFERENCE_INPUTS"]
+__all__ = ["SHARED_REFERENCE_INPUTS", "TeslameterCalibration", "TeslameterOutcome"]
 
 #: NMR-budget inputs common to every point of one calibration (same counter,
 #: same probe, same sample): merged once so the points are correlated.
@@ -71,7 +71,7 @@ class TeslameterCalibration:
     base_dir: str = "."
 
     @classmethod
-    def from_dict(cls, d: Mapping, where: str = "calibration", base_dir: str | Path = ".") -> "TeslameterCalibration":
+    def from_dict(cls, d: Mapping, where: str = "calibration", base_dir: str | Path = ".") -> TeslameterCalibration:
         unknown = sorted(set(d) - _KEYS)
         if unknown:
             raise BudgetFileError(where, f"#/{unknown[0]}", f"unknown key; allowed keys: {', '.join(sorted(_KEYS))}")
@@ -160,7 +160,7 @@ class TeslameterCalibration:
         """The merged calibration budget (one output E_i per point)."""
         return self.calibration_set().budget
 
-    def evaluate(self) -> "TeslameterOutcome":
+    def evaluate(self) -> TeslameterOutcome:
         """Evaluate the points, fit the error curve and judge each point against the tolerance.
 
         ``propagation`` (default ``"auto"``: Monte Carlo, JCGM 101, when an

@@ -44,7 +44,7 @@ def _text_of(value: Any) -> str:
         return "\n".join(_text_of(v) for v in value)
     if isinstance(value, float):
         s = repr(value)
-        return s[:-2] if s.endswith(".0") else s
+        return s.removesuffix(".0")
     return str(value)
 
 

@@ -3,13 +3,18 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 
-from fieldbudget.procedure import Component, Procedure, Step, load_procedure, procedure_from_dict
+from fieldbudget.procedure import (
+    Component,
+    Procedure,
+    Step,
+    load_procedure,
+    procedure_from_dict,
+)
 from fieldbudget.procedure.procedure import CODATA_COMPONENT
-
-from pathlib import Path
 
 TEMPLATES = Path(__file__).resolve().parents[2] / "templates"
 NMR_TEMPLATE = TEMPLATES / "nmr-reference-field.toml"

@@ -83,14 +83,14 @@ def test_steps_next_back_go(run):
     ("line_fwhm", -1, "line_fwhm must be a finite number in [0, inf] Hz (got -1)"),
     ("line_fwhm", "nan", "line_fwhm must be a finite number in [0, inf] Hz (got 'nan')"),
     ("days_since_calibration", 800, "days_since_calibration must be a finite number in [0, 730] d (got 800)"),
-    ("frequency_readings", "42e6 x", "frequency_readings must be a list of finite numbers in [1000, 1e+09] Hz "
-                                     "(separated by commas, spaces or new lines) (got 'x')"),
-    ("frequency_readings", "", "frequency_readings must be a list of finite numbers in [1000, 1e+09] Hz "
-                               "(separated by commas, spaces or new lines) (got '')"),
-    ("timebase_u", 1e-9, "timebase_u must be left as the lab fixed it "
-                         "(Certificate LMCL-FS-2026-0712: U = 1.0e-9, k = 2 (invented)) (got 1e-09)"),
-    ("codata_edition", 2018, "codata_edition must be left as the lab fixed it (Lab policy QP-07 (invented): "
-                             "CODATA 2022 for all NMR field measurements from 2026-01) (got 2018)"),
+    ("frequency_readings", "42e6 x", ("frequency_readings must be a list of finite numbers in [1000, 1e+09] Hz "
+                                     "(separated by commas, spaces or new lines) (got 'x')")),
+    ("frequency_readings", "", ("frequency_readings must be a list of finite numbers in [1000, 1e+09] Hz "
+                               "(separated by commas, spaces or new lines) (got '')")),
+    ("timebase_u", 1e-9, ("timebase_u must be left as the lab fixed it "
+                         "(Certificate LMCL-FS-2026-0712: U = 1.0e-9, k = 2 (invented)) (got 1e-09)")),
+    ("codata_edition", 2018, ("codata_edition must be left as the lab fixed it (Lab policy QP-07 (invented): "
+                             "CODATA 2022 for all NMR field measurements from 2026-01) (got 2018)")),
 ])
 def test_bad_entries_keep_the_previous_value(run, cid, value, message):
     before = dict(run.entered)

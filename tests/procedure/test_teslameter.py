@@ -92,7 +92,7 @@ def test_wrong_column_is_named(tmp_path):
     data = tomllib.loads(TEMPLATE.read_text("utf-8"))
     data["components"]["column_hall"]["value"] = "hall_T"
     r = ProcedureRun(procedure_from_dict(data, str(TEMPLATE)))
-    (cid, msg), = r.errors.items()
+    (_cid, msg), = r.errors.items()
     assert msg == ("values entered for procedure 'teslameter-calibration', at #/columns/hall_reading_T: must name "
                    "a column of 'hall-calibration-2026-11-19.csv' (columns: point, magnet_current_A, "
                    "nmr_frequency_Hz, hall_reading_T, probe_temperature_C, note) (got 'hall_T')")

@@ -9,7 +9,7 @@ import pytest
 
 pytest.importorskip("ipywidgets")
 
-from fieldbudget.widgets.procedure_view import ProcedureView, procedure_app  # noqa: E402
+from fieldbudget.widgets.procedure_view import ProcedureView, procedure_app
 
 NMR_TEMPLATE = Path(__file__).resolve().parents[2] / "templates" / "nmr-reference-field.toml"
 READINGS = "42576412.31\n42576412.18\n42576412.27\n42576412.22\n42576412.35"
