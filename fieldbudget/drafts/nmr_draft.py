@@ -168,7 +168,11 @@ def _spec_for(path: str, value: Any) -> FieldSpec:
         kind = "numbers"
     else:
         kind = "text"
-    return FieldSpec(path, path.rsplit(".", 1)[-1].replace("_", " "), kind, "other")
+    head, _, _ = path.partition(".")
+    section = {"frequency": "frequency", "timebase": "frequency standard", "sample": "sample", "line": "line",
+               "probe": "probe", "probe_perturbation": "probe"}.get(head, "other")
+    words = path.split(".")[1:] if section != "other" and "." in path else path.split(".")
+    return FieldSpec(path, " ".join(words).replace("_", " "), kind, section)
 
 
 def _parser(spec: FieldSpec, choices: Mapping[str, tuple]) -> Callable[[str, str], Any]:
@@ -284,7 +288,12 @@ class NMRDraft:
 
     def load_counter_csv(self, content: str | bytes, column: str | int | None = None,
                          name: str = "counter file") -> bool:
-        """Readings from a counter's CSV export; they replace the readings box's text."""
+        """Readings from a counter's CSV export.
+
+        They replace the readings box's text, and become the frequency's only
+        source: a single reading (``value_Hz``, ``u_Hz``) or a ``readings_csv``
+        reference in the description is cleared.
+        """
         try:
             readings = readings_from_csv(content, column, where=name)
         except InputError as err:
@@ -292,7 +301,17 @@ class NMRDraft:
             for fn in list(self._listeners):
                 fn(self)
             return False
+        for path, f in self.fields.items():
+            if path in ("frequency.value_Hz", "frequency.u_Hz", "frequency.dof") or \
+                    path.startswith("frequency.readings_csv."):
+                f.set("")
+        self._drop_csv_reference()
         return self.set("frequency.readings_Hz", "\n".join(_text_of(r) for r in readings))
+
+    def _drop_csv_reference(self) -> None:
+        freq = self.base.get("frequency")
+        if isinstance(freq, dict):
+            freq.pop("readings_csv", None)
 
     # -- reading side ------------------------------------------------------------------------
     @property
@@ -333,9 +352,15 @@ class NMRDraft:
                     parent.pop(keys[-1], None)
                 else:
                     parent[keys[-1]] = list(v) if isinstance(v, tuple) else v
-        for k in [k for k, v in d.items() if isinstance(v, dict) and not v]:
-            del d[k]  # a section whose boxes are all blank
-        return d
+        def prune(obj: dict) -> dict:  # sections whose boxes are all blank
+            for k in list(obj):
+                if isinstance(obj[k], dict):
+                    prune(obj[k])
+                    if not obj[k]:
+                        del obj[k]
+            return obj
+
+        return prune(d)
 
     def save_measurement(self, path: str | Path) -> Path:
         """Write the last good description as a measurement file (atomically)."""

@@ -145,3 +145,19 @@ def test_huge_effective_dof_evaluates(draft):
     # a line-centre u of 2 kHz dominates: nu_eff ~ 3e19, k must be the normal 2.0 (JCGM 100:2008 G.6.6)
     assert draft.set("line.u_Hz", "2000"), draft.errors
     assert draft.result.coverage_factor == pytest.approx(2.0, abs=1e-9)
+
+
+def test_loading_a_counter_file_replaces_a_csv_reference(tmp_path):
+    readings = nmr_description()["frequency"]["readings_Hz"]
+    csv = "time_s,frequency_Hz\n" + "".join(f"{i},{r}\n" for i, r in enumerate(readings))
+    (tmp_path / "counter.csv").write_text(csv)
+    desc = nmr_description()
+    del desc["frequency"]["readings_Hz"]
+    desc["frequency"]["readings_csv"] = {"path": "counter.csv", "column": "frequency_Hz"}
+    d = NMRDraft(desc, base_dir=tmp_path)
+    assert d.current, d.errors
+    by_reference = d.result.standard_uncertainty
+    assert d.specs["frequency.readings_csv.path"].section == "frequency"
+    assert d.load_counter_csv(csv.encode())
+    assert "readings_csv" not in d.description()["frequency"]
+    assert d.result.standard_uncertainty == by_reference  # the same readings, typed in now
