@@ -21,8 +21,10 @@ __all__ = [
     "DigestMismatch",
     "SchemaVersionError",
     "MonteCarloCancelled",
+    "ReportToolMissing",
     "FieldbudgetWarning",
     "PhysicsWarning",
+    "CalibrationRangeWarning",
 ]
 
 
@@ -149,9 +151,17 @@ class MonteCarloCancelled(FieldbudgetError):
         return f"Monte Carlo run cancelled after {self.trials_done} trials"
 
 
+class ReportToolMissing(FieldbudgetError):
+    """A program a report format needs (e.g. chromium for PDF) is not installed."""
+
+
 class FieldbudgetWarning(UserWarning):
     """Base class of fieldbudget's warnings."""
 
 
 class PhysicsWarning(FieldbudgetWarning):
     """A physics check found a condition that may invalidate a reading."""
+
+
+class CalibrationRangeWarning(FieldbudgetWarning):
+    """A prediction asked for outside the range of the calibration points."""

@@ -46,7 +46,7 @@ import scipy.linalg
 import scipy.stats
 
 from fieldbudget import _display
-from fieldbudget.errors import FieldbudgetWarning, InputError
+from fieldbudget.errors import CalibrationRangeWarning, InputError
 
 __all__ = [
     "CalibrationRangeWarning",
@@ -56,10 +56,6 @@ __all__ = [
 ]
 
 _WHERE = "calibration curve"
-
-
-class CalibrationRangeWarning(FieldbudgetWarning):
-    """A prediction asked for outside the range of the calibration points."""
 
 
 def _as_tuple2(a: np.ndarray) -> tuple[tuple[float, ...], ...]:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 
-from ..engine import evaluate
+from ..engine import VectorResult, evaluate
 from ..files.budget_file import load_budget
 
 __all__ = ["add_parser", "run"]
@@ -34,8 +34,10 @@ def run(args: argparse.Namespace) -> int:
 
         trials = args.monte_carlo if args.monte_carlo is not None else 10**6
         mc = montecarlo.run(budget, trials=trials, seed=args.seed, adaptive=args.adaptive)
-        check = validation.validate(result, mc) if hasattr(result, "measurand") else None
-        result = result.with_monte_carlo(mc, check)
+        if isinstance(result, VectorResult):
+            result = result.with_monte_carlo(mc, validation.validate_outputs(result, mc))
+        else:
+            result = result.with_monte_carlo(mc, validation.validate(result, mc))
     if args.json:
         print(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
     else:

@@ -3,6 +3,7 @@
 Knows nothing of NMR; the domain layers build ordinary :class:`Budget` objects.
 """
 
+from . import montecarlo, second_order, validation
 from .budget import Budget, Measurand
 from .coverage import coverage_factor
 from .distributions import (
@@ -24,5 +25,6 @@ from .rounding import RoundedResult, round_result
 __all__ = [
     "Arcsine", "Budget", "BudgetResult", "Contribution", "CurvilinearTrapezoid", "Expression", "InputQuantity",
     "Measurand", "Model", "Normal", "Rectangular", "RoundedResult", "Triangular", "TypeA", "VectorResult",
-    "coverage_factor", "dof_from_reliability", "evaluate", "rebase", "round_result", "sensitivities",
+    "coverage_factor", "dof_from_reliability", "evaluate", "montecarlo", "rebase", "round_result",
+    "second_order", "sensitivities", "validation",
 ]

@@ -267,6 +267,16 @@ class VectorResult:
     def outputs(self) -> tuple[str, ...]:
         return tuple(r.measurand.symbol for r in self.results)
 
+    def with_monte_carlo(self, monte_carlo: object, validations: tuple | None = None) -> "VectorResult":
+        """A copy whose per-output results carry their Monte Carlo result and validation.
+
+        ``monte_carlo`` is indexable by output symbol (``MonteCarloVectorResult``).
+        """
+        validations = validations or (None,) * len(self.results)
+        results = tuple(r.with_monte_carlo(monte_carlo[r.measurand.symbol], v)  # type: ignore[index]
+                        for r, v in zip(self.results, validations))
+        return replace(self, results=results)
+
     def __getitem__(self, symbol: str) -> BudgetResult:
         for r in self.results:
             if r.measurand.symbol == symbol:

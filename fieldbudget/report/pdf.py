@@ -14,16 +14,12 @@ import subprocess
 import tempfile
 from pathlib import Path
 
-from ..errors import FieldbudgetError
+from ..errors import ReportToolMissing
 
 __all__ = ["CHROMIUM_ARGS", "ReportToolMissing", "find_chromium", "html_to_pdf"]
 
 CHROMIUM_ARGS = ("--headless", "--no-sandbox", "--disable-gpu", "--no-first-run", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync", "--no-pdf-header-footer")
-
-
-class ReportToolMissing(FieldbudgetError):
-    """A program a report format needs is not installed."""
 
 
 def find_chromium() -> str | None:

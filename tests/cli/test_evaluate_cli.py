@@ -56,3 +56,25 @@ def test_user_mistake_is_one_line_and_exit_2(tmp_path):
 def test_missing_file(tmp_path, capsys):
     assert main(["evaluate", str(tmp_path / "nope.json")]) == 2
     assert "no such file" in capsys.readouterr().err
+
+
+def test_monte_carlo_keys(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--json", "--monte-carlo", "20000", "--seed", "7"]) == 0
+    mc = json.loads(capsys.readouterr().out)["mc"]
+    for key in ("value", "u", "interval", "shortest_interval", "trials", "seed", "validated"):
+        assert key in mc
+    assert mc["trials"] == 20000 and mc["seed"] == 7 and isinstance(mc["validated"], bool)
+
+
+def test_second_order_key(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--json", "--second-order"]) == 0
+    assert json.loads(capsys.readouterr().out)["u_second_order"] > 0
+
+
+def test_monte_carlo_of_a_several_output_budget(tmp_path, capsys):
+    p = tmp_path / "two.json"
+    p.write_text(json.dumps({"model": {"s": "a + b", "d": "a - b"},
+                             "inputs": {"a": {"value": 1, "u": 0.1}, "b": {"value": 2, "u": 0.2}}}))
+    assert main(["evaluate", str(p), "--json", "--monte-carlo", "400000", "--seed", "3"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert [o["mc"]["validated"] for o in out["outputs"]] == [True, True]
