@@ -13,7 +13,7 @@ s(q, w) = sum (q_k - q)(w_k - w) / (n (n - 1)) (JCGM 100:2008 5.2.3, eqs. 14, 17
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -220,14 +220,14 @@ class Budget:
                 return q
         raise InputError("symbol", symbol, f"one of the inputs {list(self.symbols)}")
 
-    def replace(self, **changes) -> "Budget":
+    def replace(self, **changes) -> Budget:
         """A copy with ``changes`` applied."""
         if "measurand" not in changes and "measurands" not in changes:
             changes.setdefault("measurands", self.measurands)
             changes.setdefault("measurand", None)
         return replace(self, **changes)
 
-    def with_input(self, quantity: InputQuantity) -> "Budget":
+    def with_input(self, quantity: InputQuantity) -> Budget:
         """A copy with ``quantity`` replacing the input of the same symbol (or appended)."""
         inputs = list(self.inputs)
         for i, q in enumerate(inputs):
@@ -310,7 +310,7 @@ class Budget:
         return d
 
     @classmethod
-    def from_dict(cls, d: Mapping, where: str = "budget") -> "Budget":
+    def from_dict(cls, d: Mapping, where: str = "budget") -> Budget:
         """Build from budget-file content; every error is a :class:`BudgetFileError`
         naming ``where``, the JSON pointer of the offending element and what is allowed."""
         if not isinstance(d, Mapping):

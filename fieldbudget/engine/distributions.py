@@ -118,7 +118,7 @@ class Normal(Distribution):
         object.__setattr__(self, "dof", _check_dof(self.dof, self.where))
 
     @classmethod
-    def from_expanded(cls, expanded: float, k: float, dof: float | None = None, where: str = "") -> "Normal":
+    def from_expanded(cls, expanded: float, k: float, dof: float | None = None, where: str = "") -> Normal:
         """u = U / k (JCGM 100:2008 4.3.4)."""
         U = _finite_nonneg("expanded", expanded, where)
         try:

@@ -36,12 +36,12 @@ class Model:
 
     # -- constructors -------------------------------------------------------------
     @classmethod
-    def from_expression(cls, text: str, output: str = "y", where: str = "") -> "Model":
+    def from_expression(cls, text: str, output: str = "y", where: str = "") -> Model:
         """One output from one expression, e.g. ``Model.from_expression("2*pi*f/g", "B")``."""
         return cls(outputs=(output,), expressions=(Expression(text, where=where),))
 
     @classmethod
-    def from_expressions(cls, mapping: Mapping[str, str], where: str = "") -> "Model":
+    def from_expressions(cls, mapping: Mapping[str, str], where: str = "") -> Model:
         """Several outputs, ``{"R": "V/I*cos(phi)", "X": "V/I*sin(phi)"}`` (JCGM 100 H.2)."""
         if not mapping:
             raise InputError("model", dict(mapping), "an object mapping each output symbol to an expression", where)
@@ -53,7 +53,7 @@ class Model:
 
     @classmethod
     def from_function(cls, function: Callable, outputs: Sequence[str] = ("y",),
-                      symbols: Sequence[str] | None = None) -> "Model":
+                      symbols: Sequence[str] | None = None) -> Model:
         """A Python function called as ``function(**inputs)``.
 
         ``symbols`` defaults to the function's parameter names.
@@ -89,7 +89,7 @@ class Model:
             return "; ".join(f"{o} = {name}({', '.join(self.function_symbols)})" for o in self.outputs)
         return "; ".join(f"{o} = {e.text}" for o, e in zip(self.outputs, self.expressions))
 
-    def renamed(self, outputs: Sequence[str]) -> "Model":
+    def renamed(self, outputs: Sequence[str]) -> Model:
         """The same model with its outputs renamed."""
         return Model(tuple(outputs), self.expressions, self.function, self.function_symbols)
 

@@ -95,7 +95,7 @@ class InputQuantity:
         """'A' for readings, 'B' otherwise (JCGM 100:2008 2.3.2, 2.3.3)."""
         return "A" if isinstance(self.distribution, TypeA) else "B"
 
-    def replace(self, **changes) -> "InputQuantity":
+    def replace(self, **changes) -> InputQuantity:
         """A copy with ``changes`` applied (the original is unchanged)."""
         return replace(self, **changes)
 
@@ -106,28 +106,28 @@ class InputQuantity:
 
     # -- constructors -------------------------------------------------------------
     @classmethod
-    def normal(cls, symbol: str, value: float, u: float, dof: float | None = None, **kw) -> "InputQuantity":
+    def normal(cls, symbol: str, value: float, u: float, dof: float | None = None, **kw) -> InputQuantity:
         return cls(symbol, value, Normal(u=u, dof=math.inf if dof is None else dof, where=f"input {symbol!r}"), **kw)
 
     @classmethod
     def expanded(cls, symbol: str, value: float, expanded: float, k: float, dof: float | None = None,
-                 **kw) -> "InputQuantity":
+                 **kw) -> InputQuantity:
         return cls(symbol, value, Normal.from_expanded(expanded, k, dof, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def rectangular(cls, symbol: str, value: float, half_width: float, **kw) -> "InputQuantity":
+    def rectangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
         return cls(symbol, value, Rectangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def triangular(cls, symbol: str, value: float, half_width: float, **kw) -> "InputQuantity":
+    def triangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
         return cls(symbol, value, Triangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def arcsine(cls, symbol: str, value: float, half_width: float, **kw) -> "InputQuantity":
+    def arcsine(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
         return cls(symbol, value, Arcsine(half_width=half_width, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def from_readings(cls, symbol: str, readings: Sequence[float], **kw) -> "InputQuantity":
+    def from_readings(cls, symbol: str, readings: Sequence[float], **kw) -> InputQuantity:
         """Type A: estimate = mean, u = s/sqrt(n), dof = n - 1 (JCGM 100:2008 4.2)."""
         d = TypeA(readings=tuple(readings) if readings is not None else (), where=f"input {symbol!r}")
         return cls(symbol, d.mean, d, **kw)
@@ -147,7 +147,7 @@ class InputQuantity:
         return d
 
     @classmethod
-    def from_dict(cls, symbol: str, d: Mapping, where: str = "") -> "InputQuantity":
+    def from_dict(cls, symbol: str, d: Mapping, where: str = "") -> InputQuantity:
         """Build from a budget-file object; errors name the input and key."""
         here = where or f"input {symbol!r}"
         _check_symbol(symbol, here)

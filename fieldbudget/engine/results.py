@@ -93,11 +93,11 @@ class BudgetResult:
         """Estimate and U rounded for reporting (JCGM 100:2008 7.2.6; EA-4/02)."""
         return round_result(self.estimate, self.expanded_uncertainty, rule, significant_digits, decimals)
 
-    def with_monte_carlo(self, monte_carlo: object, validation: object | None = None) -> "BudgetResult":
+    def with_monte_carlo(self, monte_carlo: object, validation: object | None = None) -> BudgetResult:
         """A copy carrying a Monte Carlo result and its validation of this GUM result."""
         return replace(self, monte_carlo=monte_carlo, validation=validation)
 
-    def with_warnings(self, *warnings: str) -> "BudgetResult":
+    def with_warnings(self, *warnings: str) -> BudgetResult:
         return replace(self, warnings=self.warnings + tuple(warnings))
 
     # -- the uncertainty statement --------------------------------------------------
@@ -267,7 +267,7 @@ class VectorResult:
     def outputs(self) -> tuple[str, ...]:
         return tuple(r.measurand.symbol for r in self.results)
 
-    def with_monte_carlo(self, monte_carlo: object, validations: tuple | None = None) -> "VectorResult":
+    def with_monte_carlo(self, monte_carlo: object, validations: tuple | None = None) -> VectorResult:
         """A copy whose per-output results carry their Monte Carlo result and validation.
 
         ``monte_carlo`` is indexable by output symbol (``MonteCarloVectorResult``).
