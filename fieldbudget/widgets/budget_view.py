@@ -39,6 +39,7 @@ def _unit(result: Any) -> str:
 
 
 _PAD = ' style="padding:0 0.5em"'
+_SRC = ' style="padding:0 0.5em;min-width:22em" width="320"'
 _NUM = ' style="padding:0 0.5em;white-space:nowrap;text-align:right"'
 
 
@@ -53,8 +54,8 @@ def budget_table_html(result: Any) -> str:
     unit = _unit(result)
     cols = ("input", "estimate x\u1d62", "u(x\u1d62)", "distribution", "\u03bd\u1d62",
             "sensitivity c\u1d62", "|c\u1d62| u(x\u1d62)", "share of variance", "source")
-    out = ['<table class="fb-table fb-budget-table"><thead><tr>',
-           *(f"<th>{escape(c)}</th>" for c in cols), "</tr></thead><tbody>"]
+    out = ['<div class="fb-budget-scroll" style="overflow-x:auto"><table class="fb-table fb-budget-table"><thead><tr>',
+           *(f'<th{_SRC if c == "source" else ""}>{escape(c)}</th>' for c in cols), "</tr></thead><tbody>"]
     for c in result.contributions:
         q = qs.get(c.symbol)
         qu = c.unit or ""
@@ -64,13 +65,14 @@ def budget_table_html(result: Any) -> str:
                  format_u(c.u_contribution, unit), "" if share is None else f"{100 * share:.1f} %",
                  c.source or (getattr(q, "source", "") if q is not None else ""))
         out.append(f'<tr class="fb-row-{escape(c.symbol)}">'
-                   + "".join(f"<td{_NUM if 0 < i < 8 else _PAD}>{escape(x)}</td>" for i, x in enumerate(cells))
+                   + "".join(f"<td{_NUM if 0 < i < 8 else _SRC if i == 8 else _PAD}>{escape(x)}</td>"
+                             for i, x in enumerate(cells))
                    + "</tr>")
     out.append("</tbody><tfoot><tr>"
                f'<td colspan="6">combined standard uncertainty u<sub>c</sub></td>'
                f'<td class="fb-uc"{_NUM}>{escape(format_u(result.standard_uncertainty, unit))}</td>'
                f'<td colspan="2">\u03bd<sub>eff</sub> = {escape(_dof(result.effective_dof))}</td>'
-               "</tr></tfoot></table>")
+               "</tr></tfoot></table></div>")
     return "".join(out)
 
 
@@ -124,7 +126,7 @@ class BudgetView(w.VBox):
         super().__init__(**kwargs)
         self.draft = draft
         self.note = css(w.HTML(), "fb-stale-note")
-        self.table = css(w.HTML(), "fb-budget")
+        self.table = css(w.HTML(layout=w.Layout(overflow="auto", max_width="100%")), "fb-budget")
         self.chart = css(w.HTML(), "fb-chart")
         self.summary = css(w.HTML(), "fb-result")
         self.warnings = css(w.HTML(), "fb-warnings")

@@ -81,7 +81,7 @@ def test_nmr_procedure_notebook_in_jupyterlab(jupyter_lab, browser_context, arti
         box.fill(CHANGE[1])
         box.press("Enter")  # a Text box commits on Enter
         expect(uc).to_have_text(after, timeout=30_000)
-        uc.scroll_into_view_if_needed()
+        uc.evaluate("e => e.scrollIntoView({block: 'center'})")
     finally:
         page.screenshot(path=str(shot), full_page=False)
         print(f"screenshot: {shot}")
