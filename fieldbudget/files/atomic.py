@@ -21,6 +21,14 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> Path:
     folder = target.parent if str(target.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
+        # mkstemp makes the file private (0600); give it the old file's mode, or the usual one
+        try:
+            mode = os.stat(target).st_mode & 0o7777
+        except FileNotFoundError:
+            umask = os.umask(0)
+            os.umask(umask)
+            mode = 0o666 & ~umask
+        os.chmod(tmp, mode)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()

@@ -996,8 +996,9 @@ def compare_editions(record: Record, edition: int) -> EditionComparison:
     u0 = {c["symbol"]: c.get("u_x") for c in d0.get("contributions", [])}
     u1 = {c["symbol"]: c.get("u_x") for c in d1.get("contributions", [])}
     for sym, item in old_in.items():
-        if item.get("reference"):
-            new = new_in.get(sym, {})
+        new = new_in.get(sym, {})
+        # only the inputs the edition change touched (CODATA ones; IUPAC and water data stay)
+        if item.get("reference") and new != item:
             changed.append((sym, str(item.get("reference")), item.get("value"), new.get("value"),
                             u0.get(sym), u1.get(sym)))
     m = d0.get("measurand") or {}
