@@ -122,9 +122,10 @@ class BudgetResult:
         if self.coverage_policy == "fixed":
             how = (f"by the coverage factor k = {self.coverage_factor:.2f} that the laboratory's policy fixes; for a "
                    f"normal distribution this corresponds to a coverage probability of about {ptext} %")
-        elif math.isinf(self.effective_dof):
-            how = (f"by the coverage factor k = {self.coverage_factor:.2f}, which for a normal distribution gives "
-                   f"a coverage probability of about {ptext} %")
+        elif math.isinf(self.effective_dof) or self.effective_dof > 1000:
+            many = "" if math.isinf(self.effective_dof) else " (more than 1000 effective degrees of freedom)"
+            how = (f"by the coverage factor k = {self.coverage_factor:.2f}{many}, which for a normal distribution "
+                   f"gives a coverage probability of about {ptext} %")
         else:
             nu = self.effective_dof
             nu_text = (f"{math.floor(nu)} degrees of freedom (effective degrees of freedom {nu:.1f}, truncated)"

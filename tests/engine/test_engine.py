@@ -154,3 +154,10 @@ def test_rebase_changes_codata_inputs_only():
     assert old.input("alpha") == b.input("alpha") and old.metadata["codata"] == 2018
     # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 (nmr-physics.md §1.5, from the published tables)
     assert round((evaluate(old).estimate / evaluate(b).estimate - 1) * 1e9, 1) == 16.2
+
+
+def test_statement_for_very_many_degrees_of_freedom():
+    b = Budget(model="a + b", inputs=(InputQuantity.normal("a", 1, 1.0),
+                                      InputQuantity.from_readings("b", [0.0, 0.001, -0.001, 0.0005])))
+    s = evaluate(b).statement()
+    assert "more than 1000 effective degrees of freedom" in s and "truncated" not in s
