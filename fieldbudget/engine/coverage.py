@@ -46,5 +46,5 @@ def coverage_factor(p: float, nu: float = math.inf, dof_rounding: str = "truncat
         # erf(2/sqrt 2) -> 2.0000000000000004 by float round-off: report the conventional 2 exactly
         return float(round(k)) if abs(k - round(k)) < 1e-12 else k
     if dof_rounding == "truncate":
-        nu = max(1.0, math.floor(nu))
+        nu = max(1.0, float(math.floor(nu)))
     return float(stats.t.ppf(q, nu))

@@ -139,8 +139,6 @@ def test_a_defect_below_is_shown_and_the_last_good_budget_kept(draft, monkeypatc
     assert draft.result is good and draft.errors[""] == "internal error: TypeError: a defect below the draft"
 
 
-@pytest.mark.xfail(reason="engine.coverage.coverage_factor: math.floor of a huge nu_eff is a Python int that "
-                          "scipy's t.ppf rejects (TypeError); float(math.floor(nu)) fixes it", strict=False)
 def test_huge_effective_dof_evaluates(draft):
     # a line-centre u of 2 kHz dominates: nu_eff ~ 3e19, k must be the normal 2.0 (JCGM 100:2008 G.6.6)
     assert draft.set("line.u_Hz", "2000"), draft.errors

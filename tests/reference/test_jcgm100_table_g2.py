@@ -72,3 +72,8 @@ def test_truncation_versus_interpolation():
     # GUM G.4.1 note 1: truncate nu_eff to the next lower integer (default) or interpolate
     assert coverage_factor(0.95, 7.9) == coverage_factor(0.95, 7)
     assert coverage_factor(0.95, 8) < coverage_factor(0.95, 7.9, "interpolate") < coverage_factor(0.95, 7)
+
+
+def test_huge_finite_dof_gives_the_normal_value():
+    # nu_eff of 3e19 (one input dominates): k is the infinite-dof value (Table G.2, last row)
+    assert round(coverage_factor(0.95, 3e19), 3) == 1.960
