@@ -42,7 +42,7 @@ def _json(path: Path, data: object) -> Path:
 
 def run(args: argparse.Namespace) -> int:
     from ..files.budget_file import save_budget
-    from ..files.record import make_record, save_record
+    from ..files.record import save_record
     from ..procedure.demo import demo_run
     from ..report import FORMATS, write_report
 
@@ -59,16 +59,12 @@ def run(args: argparse.Namespace) -> int:
     outcome = procedure_run.evaluate()
     acceptance = procedure_run.check(outcome)
     budget = procedure_run.budget()
-    record_info = procedure_run.record_dict()
 
     written: list[tuple[str, Path]] = []
-    written.append(("measurement", _json(out / "demo-measurement.json", procedure_run.measurement_dict())))
+    written.append(("measurement", procedure_run.save_measurement(out / "demo-measurement.json")))
     written.append(("budget", save_budget(budget, out / "demo-budget.json")))
-    record = make_record(
-        budget, monte_carlo=args.trials or None, seed=SEED if args.trials else None,
-        operator=str(record_info.get("operator", "")), procedure=proc,
-        remarks=f"Demo with invented data ({proc.lab}). Acceptance: "
-                + {True: "every limit met", False: "a limit NOT met", None: "incomplete"}[acceptance.accepted])
+    record = procedure_run.make_record(monte_carlo=args.trials or None, seed=SEED if args.trials else None,
+                                       remarks=f"Demo with invented data ({proc.lab}).")
     written.append(("record", save_record(record, out / "demo-record.json")))
     written.append(("acceptance", _json(out / "demo-acceptance.json", acceptance.to_dict())))
     skipped: list[str] = []

@@ -285,6 +285,15 @@ class ProcedureRun:
         return None if self._outcome is None else _core(self._outcome)
 
     @property
+    def last_budget(self) -> Any:
+        """The engine budget of the last good evaluation, or None (what an export saves)."""
+        o = self._outcome
+        if o is None:
+            return None
+        inner = getattr(o, "calibration", None)
+        return getattr(inner if inner is not None else o, "budget", None)
+
+    @property
     def current(self) -> bool:
         """True when :attr:`result` was evaluated from the values in force now."""
         return self._current
@@ -482,6 +491,33 @@ class ProcedureRun:
     def evaluate(self) -> Any:
         """Evaluate the measurement (the domain layer's result, with its ``warnings``)."""
         return self.measurement().evaluate()
+
+    def save_measurement(self, path: str | Path) -> Path:
+        """Write the measurement description built from this run (JSON, atomic) and return its path."""
+        import json
+
+        from ..files.atomic import atomic_write_text
+
+        d = self.measurement_dict()
+        return atomic_write_text(path, json.dumps(d, indent=2, ensure_ascii=False) + "\n")
+
+    def make_record(self, *, monte_carlo: Any = None, seed: int | None = None, remarks: str = "") -> Any:
+        """A record of the last good budget naming this procedure, its operator and the acceptance verdict.
+
+        ``monte_carlo`` and ``seed`` are passed to
+        :func:`fieldbudget.files.record.make_record` (a number of trials, or None).
+        """
+        from ..files.record import make_record
+
+        budget = self.last_budget
+        if budget is None:
+            raise InputError("budget", None, "evaluated first (enter every required value)", self._where)
+        verdict = {True: "every acceptance limit met", False: "an acceptance limit NOT met",
+                   None: "acceptance incomplete"}[self.check().accepted if self._current else None]
+        text = f"{remarks} " if remarks else ""
+        return make_record(budget, monte_carlo=monte_carlo, seed=seed, procedure=self.procedure,
+                           operator=str(self.record_dict().get("operator", "")),
+                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
 
     # ------------------------------------------------------------ acceptance
     def check(self, result: Any = _LATEST) -> AcceptanceReport:

@@ -18,7 +18,8 @@ its ``input``/``textarea`` sits inside), ``fb-proc-msg`` and
 fixes), ``fb-proc-budget`` (the live budget; the table inside has class
 ``fb-table``), ``fb-proc-u`` (the combined standard uncertainty as text),
 ``fb-proc-outcome`` (a calibration's points, curve and conformity),
-``fb-proc-acceptance``, ``fb-proc-status``.
+``fb-proc-acceptance``, ``fb-proc-export`` (save the budget, measurement,
+record and reports), ``fb-proc-status``.
 """
 
 from __future__ import annotations
@@ -33,6 +34,7 @@ from ..errors import FieldbudgetError
 from ..procedure import Component, ProcedureRun, load_procedure
 from ._binding import css, guarded, status_html
 from .budget_view import BudgetView, format_u
+from .export_bar import ExportBar
 
 __all__ = ["ProcedureView", "procedure_app"]
 
@@ -110,6 +112,24 @@ class _FieldRow:
         self.widget.close()
 
 
+class _ExportSource:
+    """What the export bar reads (``budget``, ``result``, ``save_measurement``), from the run."""
+
+    def __init__(self, run: ProcedureRun) -> None:
+        self.run = run
+
+    @property
+    def budget(self) -> Any:
+        return self.run.last_budget
+
+    @property
+    def result(self) -> Any:
+        return self.run.result
+
+    def save_measurement(self, path):
+        return self.run.save_measurement(path)
+
+
 class ProcedureView:
     """The guided form for one :class:`ProcedureRun`; ``view.widget`` is what the notebook shows.
 
@@ -157,6 +177,7 @@ class ProcedureView:
         self.u_text = css(w.HTML(), "fb-proc-u")
         self.outcome = css(w.HTML(), "fb-proc-outcome")
         self.acceptance = css(w.HTML(), "fb-proc-acceptance")
+        self.export = css(ExportBar(_ExportSource(run), stem=run.procedure.id), "fb-proc-export")
         self.status = css(w.HTML(), "fb-proc-status")
         self.back_button.on_click(self._back)
         self.next_button.on_click(self._next)
@@ -165,7 +186,7 @@ class ProcedureView:
         step_box = w.VBox([self.step_title, self.instruction, self.step_cautions, self.fields, nav])
         self.widget = css(w.VBox([self.header, self.safety, self.steps_list, step_box, self.fixed,
                                   self.status, self.u_text, self.budget, self.outcome,
-                                  self.acceptance]), "fb-proc")
+                                  self.acceptance, self.export]), "fb-proc")
         self._unsubscribe = run.subscribe(self._run_changed)
         self._shown_step = -1
         self.render()
@@ -266,6 +287,7 @@ class ProcedureView:
         """Stop listening to the run and close every widget."""
         self._unsubscribe()
         self.budget.close()
+        self.export.close()
         for row in self._all_rows.values():
             row.close()
         self.widget.close()

@@ -64,7 +64,8 @@ def test_steps_next_back_go(run):
     assert run.is_first and run.step.id == "prepare"
     run.back()
     assert run.step_index == 0 and seen == []   # no change, no notice
-    run.next(); run.next()
+    run.next()
+    run.next()
     assert run.step.id == "lock"
     assert [c.id for c in run.step_components()] == ["line_fwhm", "line_snr", "frequency_readings",
                                                         "line_points", "counter_resolution"]
@@ -229,3 +230,23 @@ def test_acceptance_on_a_real_evaluation(run):
     assert report.accepted is True, report.to_dict()
     u_rel = next(v for v in report.verdicts if v.limit.id == "u-rel").value
     assert u_rel == pytest.approx(run.result.expanded_uncertainty / run.result.estimate, rel=1e-12)
+
+
+def test_record_and_measurement_file_of_a_run(run, tmp_path):
+    from fieldbudget.files.record import verify_record
+    from fieldbudget.nmr.measurement import NMRMeasurement
+
+    with pytest.raises(InputError, match="budget must be evaluated first"):
+        run.make_record()
+    run.set("frequency_readings", READINGS)
+    run.set("operator", "A. Tester")
+    path = run.save_measurement(tmp_path / "m.json")
+    again = NMRMeasurement.from_file(path).evaluate()
+    assert again.standard_uncertainty == run.result.standard_uncertainty
+    rec = run.make_record()
+    assert rec.procedure == {"name": "Reference field by proton NMR", "version": "1.0"}
+    assert rec.operator == "A. Tester"
+    assert rec.remarks == "Procedure nmr-reference-field v1.0: every acceptance limit met."
+    from fieldbudget.files.record import save_record
+
+    assert verify_record(save_record(rec, tmp_path / "r.json")).passed

@@ -44,7 +44,8 @@ def test_next_back_and_the_fields_of_each_step(view):
     assert not view.back_button.disabled
     # a lab-fixed component is shown read-only, with its source
     fixed = view.rows["offset_u"]
-    assert "fb-proc-fixed-value" in fixed.input._dom_classes and "LMCL-PC-2025-032" in fixed.widget.children[0].children[2].children[1].value
+    assert "fb-proc-fixed-value" in fixed.input._dom_classes
+    assert "LMCL-PC-2025-032" in fixed.widget.children[0].children[2].children[1].value
     view.back_button.click()
     assert view.run.step.id == "prepare"
 
@@ -136,3 +137,18 @@ def test_a_bad_procedure_file_gives_a_message_not_a_traceback(tmp_path):
     shown = procedure_app(bad)
     assert "fb-proc-error" in shown._dom_classes
     assert f"{bad}, at (top level): missing required key &#x27;procedure&#x27;" in shown.value
+
+
+def test_export_bar_saves_the_runs_budget_and_measurement(view, tmp_path):
+    import json
+
+    bar = view.export
+    bar.folder = tmp_path
+    bar.save_button.click()
+    assert "nothing to save yet" in bar.status.value          # no readings yet
+    view.run.set("frequency_readings", READINGS)
+    bar.save_button.click()
+    saved = json.loads((tmp_path / "nmr-reference-field.json").read_text())
+    assert saved == view.run.last_budget.to_dict()
+    bar.measurement_button.click()
+    assert json.loads((tmp_path / "nmr-reference-field.measurement.json").read_text()) == view.run.measurement_dict()
