@@ -36,3 +36,21 @@ def test_budget_file_example_evaluates():
 
 def test_safety_section_present():
     assert "## Safety" in README and "Implanted medical devices" in README and "Cryogens" in README
+
+
+def test_nmr_measurement_example_is_the_tested_file_and_evaluates():
+    from fieldbudget.nmr import NMRMeasurement
+
+    data = json.loads((Path(__file__).parent / "nmr" / "data" / "water_cylinder_1p5T.json").read_text())
+    examples = [b for b in _json_blocks() if "nucleus" in b]
+    assert examples == [data]
+    r = NMRMeasurement.from_dict(examples[0]).evaluate()
+    assert r.result.standard_uncertainty > 0
+
+
+def test_commands_named_in_the_readme_exist():
+    from fieldbudget.cli import COMMANDS
+
+    blocks = "\n".join(re.findall(r"```bash\n(.*?)```", README, flags=re.S))
+    used = set(re.findall(r"^fieldbudget (\w+)", blocks, flags=re.M))
+    assert used and used <= set(COMMANDS), used - set(COMMANDS)
