@@ -28,7 +28,7 @@ __all__ = ["Budget", "Measurand", "COVERAGE_POLICIES", "DOF_ROUNDING"]
 COVERAGE_POLICIES = ("t", "fixed")
 DOF_ROUNDING = ("truncate", "interpolate")
 _TOP_KEYS = {"model", "inputs", "measurand", "measurands", "correlations", "simultaneous", "coverage_probability",
-             "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format"}
+             "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format", "second_order"}
 FILE_FORMAT = "fieldbudget-budget/1"
 
 
@@ -96,6 +96,10 @@ class Budget:
         The k of the 'fixed' policy.
     dof_rounding : 'truncate' or 'interpolate'
         How a non-integer nu_eff enters t_p (JCGM 100:2008 G.4.1, note 1).
+    second_order : bool
+        Include the second-order terms of the Taylor series in u_c (JCGM 100:2008
+        5.1.2, note), for a model whose nonlinearity matters, e.g. a product of
+        two inputs with zero estimates.  Uncorrelated inputs, one output.
     metadata : mapping
         Free facts recorded with the budget (CODATA edition, procedure, ...).
     """
@@ -110,6 +114,7 @@ class Budget:
     coverage_policy: str = "t"
     coverage_factor: float = 2.0
     dof_rounding: str = "truncate"
+    second_order: bool = False
     title: str = ""
     metadata: Mapping[str, object] = field(default_factory=dict)
 
@@ -170,6 +175,8 @@ class Budget:
             raise InputError("coverage_factor", k, "a finite number > 0")
         if self.dof_rounding not in DOF_ROUNDING:
             raise InputError("dof_rounding", self.dof_rounding, f"one of {DOF_ROUNDING}")
+        if not isinstance(self.second_order, bool):
+            raise InputError("second_order", self.second_order, "true or false")
         object.__setattr__(self, "metadata", FrozenMapping(self.metadata))
         # correlations
         corr = []
@@ -305,6 +312,8 @@ class Budget:
             d["coverage_factor"] = self.coverage_factor
         if self.dof_rounding != "truncate":
             d["dof_rounding"] = self.dof_rounding
+        if self.second_order:
+            d["second_order"] = True
         if self.metadata:
             d["metadata"] = dict(self.metadata)
         return d
@@ -369,7 +378,8 @@ class Budget:
         md = d.get("metadata", {})
         if not isinstance(md, Mapping):
             raise BudgetFileError(where, "#/metadata", "must be an object")
-        for key in ("coverage_probability", "coverage_policy", "coverage_factor", "dof_rounding", "title"):
+        for key in ("coverage_probability", "coverage_policy", "coverage_factor", "dof_rounding", "title",
+                    "second_order"):
             if key in d:
                 kw[key] = d[key]
         try:

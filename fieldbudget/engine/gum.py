@@ -32,7 +32,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, ModelEvaluationError
 from .budget import Budget
 from .coverage import coverage_factor
 from .results import BudgetResult, Contribution, VectorResult
@@ -106,7 +106,10 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     Returns a :class:`BudgetResult` for a one-output model, a
     :class:`VectorResult` (results plus covariance) for several outputs.
     ``second_order=True`` adds u_c with the second-order terms of
-    JCGM 100:2008 5.1.2 (uncorrelated inputs only).
+    JCGM 100:2008 5.1.2 (uncorrelated inputs only) as ``u_second_order``;
+    a budget with ``second_order=True`` reports that u_c as its combined
+    standard uncertainty, with the second-order part as
+    ``higher_order_variance``.
     """
     if not isinstance(budget, Budget):
         raise InputError("budget", budget, "a Budget")
@@ -114,15 +117,20 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     u = np.array([q.standard_uncertainty for q in budget.inputs])
     nu = np.array([q.dof for q in budget.inputs])
     R = budget.correlation_matrix()
-    V = R * np.outer(u, u)
-    cov = C @ V @ C.T
+    with np.errstate(all="ignore"):
+        V = R * np.outer(u, u)
+        cov = C @ V @ C.T
+    if not np.all(np.isfinite(cov)) or not np.all(np.isfinite(C)):
+        raise ModelEvaluationError(
+            f"model {budget.model.text()!r}: the combined variance is not a finite number (a sensitivity "
+            "coefficient or an uncertainty is too large for floating point)")
     results = []
     common: list[str] = []
     if budget.has_correlations:
         common.append("inputs are correlated: the effective degrees of freedom use Welch-Satterthwaite with the "
                       "full combined variance (JCGM 100:2008 G.4 assumes independent inputs)")
     u2o: float | None = None
-    if second_order:
+    if second_order or budget.second_order:
         from .second_order import combined_uncertainty as _second_order
 
         if len(budget.model.outputs) != 1:
@@ -131,10 +139,15 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     for j, ms in enumerate(budget.measurands):
         c = C[j]
         uc2 = float(cov[j, j])
-        uc = math.sqrt(max(uc2, 0.0))
         ui = np.abs(c) * u
         plain = float(np.sum(ui ** 2))
         corr_var = uc2 - plain if budget.has_correlations else 0.0
+        higher = 0.0
+        if budget.second_order and u2o is not None:
+            # JCGM 100:2008 5.1.2 note: the reported u_c includes the second-order terms
+            higher = u2o ** 2 - uc2
+            uc2 = u2o ** 2
+        uc = math.sqrt(max(uc2, 0.0))
         shares = ui ** 2 / uc2 if uc2 > 0 else np.zeros_like(ui)
         nu_eff = _welch_satterthwaite(uc, ui, nu)
         if budget.coverage_policy == "fixed":
@@ -149,10 +162,14 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
                 else set(budget.model.function_symbols))
         for q, ci in zip(budget.inputs, c):
             if ci == 0 and q.standard_uncertainty > 0 and q.symbol in used:
-                warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate, so first-order "
-                            "propagation ignores its uncertainty; if the model is nonlinear in it (e.g. a cosine "
-                            "at 0), first-order propagation underestimates u: check with Monte Carlo or "
-                            "second-order terms")
+                if budget.second_order:
+                    warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate; u_c includes "
+                                "the second-order terms (JCGM 100:2008 5.1.2), which carry its uncertainty")
+                else:
+                    warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate, so "
+                                "first-order propagation ignores its uncertainty; if the model is nonlinear in it "
+                                "(e.g. a cosine at 0), first-order propagation underestimates u: check with Monte "
+                                "Carlo or second-order terms")
         contribs = tuple(
             Contribution(
                 symbol=q.symbol, estimate=q.estimate, unit=q.unit, distribution=q.kind,
@@ -165,7 +182,8 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
         results.append(BudgetResult(
             budget=budget, measurand=ms, estimate=float(y[j]), standard_uncertainty=uc, effective_dof=nu_eff,
             coverage_factor=k, coverage_probability=budget.coverage_probability, expanded_uncertainty=k * uc,
-            contributions=contribs, correlation_variance=corr_var, sensitivity_method=method,
+            contributions=contribs, correlation_variance=corr_var, higher_order_variance=higher,
+            sensitivity_method=method,
             warnings=tuple(warn), u_second_order=u2o,
         ))
     if len(results) == 1:

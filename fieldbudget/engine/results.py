@@ -68,6 +68,7 @@ class BudgetResult:
     expanded_uncertainty: float
     contributions: tuple[Contribution, ...]
     correlation_variance: float = 0.0
+    higher_order_variance: float = 0.0
     sensitivity_method: str = ""
     warnings: tuple[str, ...] = ()
     u_second_order: float | None = None
@@ -133,8 +134,9 @@ class BudgetResult:
                        else f"{D.fmt_dof(nu)} effective degrees of freedom")
             how = (f"by the coverage factor k = {self.coverage_factor:.2f} from the t-distribution with {nu_text}, "
                    f"for a coverage probability of about {ptext} %")
+        second = " (second-order terms included, JCGM 100:2008 5.1.2)" if self.budget.second_order else ""
         return (f"{head}. The number after ± is the expanded uncertainty U = k·u_c: the combined standard "
-                f"uncertainty u_c = {u_text}{unit} multiplied {how}.")
+                f"uncertainty u_c = {u_text}{unit}{second} multiplied {how}.")
 
     # -- forms ----------------------------------------------------------------------
     def __repr__(self) -> str:
@@ -166,6 +168,8 @@ class BudgetResult:
                      f"k = {self.coverage_factor:.3f}   U = {self.expanded_uncertainty:.4g}{unit}")
         if self.correlation_variance:
             lines.append(f"correlation terms in u_c^2: {self.correlation_variance:.4g}")
+        if self.budget.second_order:
+            lines.append(f"second-order terms in u_c^2 (JCGM 100:2008 5.1.2): {self.higher_order_variance:.4g}")
         if self.u_second_order is not None:
             lines.append(f"u_c with second-order terms: {self.u_second_order:.4g}{unit}")
         lines += ["", self.statement()]
@@ -222,6 +226,7 @@ class BudgetResult:
             else None,
             "contributions": [c.to_dict() for c in self.contributions],
             "correlation_variance": self.correlation_variance,
+            "higher_order_variance": self.higher_order_variance,
             "sensitivity_method": self.sensitivity_method,
             "rounded": self.rounded().to_dict(),
             "statement": self.statement(),

@@ -536,7 +536,10 @@ def _build(m: NMRMeasurement) -> Budget:
         return Budget(model=Model.from_expression(expr), inputs=tuple(inputs),
                       measurand=Measurand("B0", "T", "flux density at the reference point, before the probe is "
                                                      "inserted"),
-                      coverage_probability=p_cov, title=top.text("title", "NMR field measurement"), metadata=meta)
+                      coverage_probability=p_cov, title=top.text("title", "NMR field measurement"), metadata=meta,
+                      # G * offset with both uncertain: u(G) u(x) is a second-order term that first-order
+                      # propagation drops (all of it when the offset estimate is 0), JCGM 100:2008 5.1.2 note
+                      second_order=any(g.standard_uncertainty > 0 and x.standard_uncertainty > 0 for g, x in pos))
     except InputError as err:  # pragma: no cover - the description was checked above
         raise BudgetFileError(m.where, "#", f"{err.field} must be {err.allowed} (got {err.value!r})") from None
 

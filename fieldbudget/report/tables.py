@@ -133,6 +133,7 @@ class ReportData:
     software: tuple[tuple[str, str], ...]
     digest: str
     histogram: tuple[tuple[float, float, int], ...] = ()
+    higher_order_variance: float = 0.0
 
     COLUMNS = ("symbol", "estimate", "unit", "distribution", "u(x_i)", "dof", "c_i", "|u_i(y)|", "share / %",
                "source")
@@ -146,8 +147,11 @@ class ReportData:
     def result_lines(self) -> tuple[tuple[str, str], ...]:
         u = f" {self.unit}" if self.unit else ""
         p = "" if self.coverage_probability is None else f"{100.0 * self.coverage_probability:.2f} %"
+        second = ((("second-order terms in u_c^2 (JCGM 100:2008 5.1.2)", f"{fmt(self.higher_order_variance, 4)}"
+                    f"{' ' + self.unit + '^2' if self.unit else ''}"),) if self.higher_order_variance else ())
         return (
             (f"estimate {self.symbol}", f"{fmt(self.value, 12)}{u}"),
+            *second,
             ("combined standard uncertainty u_c", f"{fmt(self.u, 4)}{u}"),
             ("effective degrees of freedom nu_eff", fmt_dof(self.nu_eff)),
             ("coverage factor k", fmt(self.k, 4)),
@@ -325,6 +329,7 @@ def build_report_data(record) -> ReportData:
         monte_carlo=tuple(mc_lines), details=tuple(details),
         changes=tuple((_text(c.get("change")), _text(c.get("what")), _text(c.get("detail"))) for c in record.changes),
         software=software, digest=record.digest, histogram=_histogram(record.monte_carlo),
+        higher_order_variance=float(gum.get("higher_order_variance") or 0.0),
     )
 
 

@@ -7,7 +7,9 @@ divisor of its distribution as input cells, and formulas for
   or SQRT(a^2/3 + d^2/9) for a curvilinear trapezoid (JCGM 101:2008 6.4.3),
   or STDEV(readings)/SQRT(COUNT(readings)) for Type A (JCGM 100:2008 4.2.3);
 - u_i(y) = ABS(c_i) * u(x_i) (JCGM 100:2008 5.1.3), with c_i as values from the engine;
-- u_c = SQRT(SUMSQ(u_i(y)) + sum over pairs 2 r_ij c_i c_j u(x_i) u(x_j)) (JCGM 100:2008 5.2.2, eq. 13);
+- u_c = SQRT(SUMSQ(u_i(y)) + sum over pairs 2 r_ij c_i c_j u(x_i) u(x_j) + second-order terms)
+  (JCGM 100:2008 5.2.2, eq. 13; the second-order terms of 5.1.2, when the budget asks for them, enter as
+  fieldbudget's value because they come from numerical derivatives);
 - U = k * u_c (JCGM 100:2008 6.2.1), with k as a value;
 
 so an assessor can audit the arithmetic in any spreadsheet program.  Sheet
@@ -145,12 +147,14 @@ def render_xlsx(data: ReportData, record) -> bytes:
     labels = [
         ("sum of squares of u_i(y)", f"=SUMSQ(L{FIRST_ROW}:L{last})"),
         ("correlation terms, sum of 2 r c_i c_j u(x_i) u(x_j)", "=" + ("+".join(terms) if terms else "0")),
-        ("combined standard uncertainty u_c", f"=SQRT(I{s}+I{s + 1})"),
+        ("combined standard uncertainty u_c", f"=SQRT(I{s}+I{s + 1}+I{s + 8})"),
         ("effective degrees of freedom nu_eff (fieldbudget)", "inf" if data.nu_eff is None else data.nu_eff),
         ("coverage factor k (fieldbudget)", data.k),
         ("expanded uncertainty U = k u_c", f"=I{s + 4}*I{s + 2}"),
         ("u_c as computed by fieldbudget", data.u),
         ("U as computed by fieldbudget", data.U),
+        # row s + 8: the second-order terms (JCGM 100:2008 5.1.2) come from numerical derivatives, as a value
+        ("second-order terms in u_c^2 (fieldbudget, JCGM 100 5.1.2)", data.higher_order_variance),
     ]
     # u_c lands on row s + 2 == last + 4, the row the share formulas reference (ucell)
     for j, (label, value) in enumerate(labels):

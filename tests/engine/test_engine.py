@@ -161,3 +161,16 @@ def test_statement_for_very_many_degrees_of_freedom():
                                       InputQuantity.from_readings("b", [0.0, 0.001, -0.001, 0.0005])))
     s = evaluate(b).statement()
     assert "more than 1000 effective degrees of freedom" in s and "truncated" not in s
+
+
+def test_budget_with_second_order_terms_reports_them_in_uc():
+    # y = G * x with x = 0: first order gives u = G u(x); the second-order term adds u(G) u(x)
+    # (JCGM 100:2008 5.1.2 note: (1/2)(d2f/dGdx)^2 u_G^2 u_x^2 twice = u_G^2 u_x^2), exact for a product
+    b = Budget(model="G * x", inputs=(InputQuantity.normal("G", 2e-4, 5e-5), InputQuantity.normal("x", 0.0, 2e-4)),
+               second_order=True)
+    r = evaluate(b)
+    assert r.standard_uncertainty == pytest.approx(math.hypot(2e-4 * 2e-4, 5e-5 * 2e-4), rel=1e-9)
+    assert r.higher_order_variance == pytest.approx((5e-5 * 2e-4) ** 2, rel=1e-6)
+    assert "second-order terms included" in r.statement()
+    again = Budget.from_dict(b.to_dict())
+    assert again.second_order and evaluate(again).standard_uncertainty == r.standard_uncertainty

@@ -145,3 +145,9 @@ def test_errors_pickle_and_share_a_base():
 def test_normal_from_expanded_checks_k():
     with pytest.raises(InputError, match="k must be a finite number > 0"):
         Normal.from_expanded(1.0, 0)
+
+
+def test_overflowing_variance_is_a_clear_error():
+    b = Budget(model="a * b", inputs=(InputQuantity.normal("a", 1e150, 1e200), InputQuantity.normal("b", 1e150, 1.0)))
+    with pytest.raises(ModelEvaluationError, match="combined variance is not a finite number"):
+        evaluate(b)

@@ -106,7 +106,12 @@ def test_end_to_end_value_and_uncertainty_independent():
         "d_probe": -bs / (1 + dp),
         "G_x": -x[0], "x_off": -g[0], "G_z": -x[1], "z_off": -g[1],
     }
-    rss = math.sqrt(sum((c[k] * u[k]) ** 2 for k in c))
+    # plus the second-order term of each gradient x offset product, u(G) u(x) (JCGM 100:2008 5.1.2 note:
+    # (1/2)(d2f/dG dx)^2 u_G^2 u_x^2 counted for (G, x) and (x, G)); the model's other second-order terms
+    # are below 1e-12 relative here
+    second = (u["G_x"] * u["x_off"]) ** 2 + (u["G_z"] * u["z_off"]) ** 2
+    assert budget.second_order
+    rss = math.sqrt(sum((c[k] * u[k]) ** 2 for k in c) + second)
     assert set(c) | {"t_ref", "t_chi"} == set(budget.symbols)
     assert u["t_ref"] == 0.0 and u["t_chi"] == 0.0
     assert r.standard_uncertainty == pytest.approx(rss, rel=1e-6)

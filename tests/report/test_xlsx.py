@@ -97,7 +97,9 @@ def test_budget_sheet_holds_live_formulas_from_the_input_cells(tmp_path):
     assert ws[f"I{rows['sumsq']}"].value == f"=SUMSQ(L{FIRST_ROW}:L{FIRST_ROW + len(symbols) - 1})"
     corr = ws[f"I{rows['corr']}"].value
     assert corr.startswith("=2*D") and f"K{row['a']}*I{row['a']}*K{row['c']}*I{row['c']}" in corr
-    assert ws[f"I{rows['u_c']}"].value == f"=SQRT(I{rows['sumsq']}+I{rows['corr']})"
+    second = rows["sumsq"] + 8  # the second-order terms' row (0 for a budget without them)
+    assert ws[f"I{rows['u_c']}"].value == f"=SQRT(I{rows['sumsq']}+I{rows['corr']}+I{second})"
+    assert ws[f"I{second}"].value == 0.0
     assert ws[f"I{rows['U']}"].value == f"=I{rows['k']}*I{rows['u_c']}"
     info = openpyxl.load_workbook(tmp_path / "m.xlsx")["Record"]
     texts = {info.cell(row=i, column=1).value: info.cell(row=i, column=2).value for i in range(1, info.max_row + 1)}
