@@ -64,6 +64,7 @@ from fieldbudget.engine import (
     VectorResult,
     evaluate,
 )
+from fieldbudget.engine.results import correlation_from_covariance
 from fieldbudget.errors import InputError
 
 from .curve import CalibrationRangeWarning, CurveFit, fit_polynomial
@@ -764,13 +765,7 @@ class CalibrationResult:
 
     @property
     def correlation(self) -> np.ndarray:
-        c = self.covariance
-        s = np.sqrt(np.diag(c))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            r = c / np.outer(s, s)
-        r[~np.isfinite(r)] = 0.0
-        np.fill_diagonal(r, 1.0)
-        return r
+        return correlation_from_covariance(self.covariance)
 
     @property
     def indications(self) -> tuple[float, ...]:

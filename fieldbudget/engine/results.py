@@ -12,7 +12,18 @@ from .budget import Budget, Measurand
 from .coverage import exact_probability
 from .rounding import RoundedResult, round_result
 
-__all__ = ["Contribution", "BudgetResult", "VectorResult"]
+__all__ = ["Contribution", "BudgetResult", "VectorResult", "correlation_from_covariance"]
+
+
+def correlation_from_covariance(cov: np.ndarray) -> np.ndarray:
+    """r_ij = u(y_i, y_j) / (u(y_i) u(y_j)) (JCGM 100:2008 5.2.2, eq. 14); 0 where a u is zero."""
+    c = np.asarray(cov, dtype=float)
+    s = np.sqrt(np.diag(c))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        r = c / np.outer(s, s)
+    r[~np.isfinite(r)] = 0.0
+    np.fill_diagonal(r, 1.0)
+    return r
 
 
 def _nu(x: float) -> float | None:
@@ -261,13 +272,7 @@ class VectorResult:
 
     @property
     def correlation(self) -> np.ndarray:
-        c = self.covariance
-        s = np.sqrt(np.diag(c))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            r = c / np.outer(s, s)
-        r[~np.isfinite(r)] = 0.0
-        np.fill_diagonal(r, 1.0)
-        return r
+        return correlation_from_covariance(self.covariance)
 
     @property
     def outputs(self) -> tuple[str, ...]:
