@@ -573,7 +573,8 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         changes = budget_changes(previous.budget, content)
 
     rec = Record(
-        budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d, monte_carlo_settings=mc_settings,
+        budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d,
+        monte_carlo_settings=mc_settings,
         codata_edition=_edition_of(content), software=software_versions(), procedure=_procedure_dict(procedure),
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
         previous_digest=prev_digest, changes=tuple(changes),

@@ -120,7 +120,7 @@ def jupyter_lab(chromium, served, tmp_path_factory):
                     break
                 except OSError:
                     if proc.poll() is not None or time.monotonic() > end:
-                        raise RuntimeError(f"JupyterLab did not start:\n{log_path.read_text()[-3000:]}")
+                        raise RuntimeError(f"JupyterLab did not start:\n{log_path.read_text()[-3000:]}") from None
                     time.sleep(0.25)
             yield {"base": f"http://127.0.0.1:{port}", "token": token, "dir": served, "log": log_path}
         finally:
