@@ -153,7 +153,7 @@ def voila(chromium, served, tmp_path_factory):
             log.close()
 
 
-@pytest.fixture(scope="session")
+@pytest.fixture(scope="module")  # closed per module: a live sync_playwright blocks later ones in the session
 def browser_context(chromium):
     from playwright.sync_api import sync_playwright
 
