@@ -8,7 +8,7 @@ applied in code that the budget does not list.  :meth:`evaluate` gives an
 :class:`NMRResult`: the engine's result plus plain-word physics warnings.
 
 Written by hand because no library knows this model.  The equation
-(nmr-physics notes 7.2, assembled from the sources cited in
+(assembled from the sources cited in
 ``fieldbudget.nmr.physics``)::
 
     B0 = (f_read + d_res + d_line) (1 + y_tb + y_age) (1 + y_drift)

@@ -152,7 +152,7 @@ def test_rebase_changes_codata_inputs_only():
     old = rebase(b, 2018)
     assert old.input("g").estimate == lookup("shielded proton gyromag. ratio in MHz/T", 2018).value
     assert old.input("alpha") == b.input("alpha") and old.metadata["codata"] == 2018
-    # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 (nmr-physics.md §1.5, from the published tables)
+    # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 (from the published CODATA tables)
     assert round((evaluate(old).estimate / evaluate(b).estimate - 1) * 1e9, 1) == 16.2
 
 

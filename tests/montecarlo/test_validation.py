@@ -78,7 +78,7 @@ def test_second_order_equals_exact_variance_of_a_product():
 
 
 def test_second_order_of_a_cubic():
-    # y = x^3, x = x0 +- u: the note's terms are c^2 u^2 + (1/2)(6 x0)^2 u^4 + (3 x0^2)(6) u^4
+    # y = x^3, x = x0 +- u: the recalled terms are c^2 u^2 + (1/2)(6 x0)^2 u^4 + (3 x0^2)(6) u^4
     x0, u = 0.7, 0.2
     b = Budget(model="x**3", inputs=(Q.normal("x", x0, u),))
     expect = math.sqrt((3 * x0**2) ** 2 * u**2 + 0.5 * (6 * x0) ** 2 * u**4 + (3 * x0**2) * 6 * u**4)

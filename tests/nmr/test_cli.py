@@ -22,7 +22,7 @@ def test_larmor_frequency_to_field(capsys):
     code, out, _ = run(capsys, "larmor", "100", "MHz", "--json")
     d = json.loads(out)
     assert code == 0
-    assert round(d["field_T"], 10) == 2.3487198124  # CODATA 2022, nmr-physics notes 7.1
+    assert round(d["field_T"], 10) == 2.3487198124  # CODATA 2022, computed here
     assert d["nucleus"] == "shielded-proton" and d["codata"] == 2022
     assert d["u"] == pytest.approx(d["field_T"] * 0.00000017 / 42.57638543, rel=1e-9)
 

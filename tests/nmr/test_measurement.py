@@ -120,7 +120,7 @@ def test_end_to_end_value_and_uncertainty_independent():
 
 
 def test_edition_switch_through_rebase():
-    # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 relative (nmr-physics notes 1.5)
+    # CODATA 2018 vs 2022 for the same frequency: +16.2e-9 relative (computed here)
     b22 = meas().to_budget()
     r22 = evaluate(b22).estimate
     r18 = evaluate(rebase(b22, 2018)).estimate
@@ -153,7 +153,7 @@ def test_finite_cylinder_demag_uncertainty_from_aspect_ratio():
     m = meas(sample={"temperature_C": 25.0, "shape": "cylinder", "length_over_diameter": 1.0,
                      "u_length_over_diameter": 0.02, "axis": "parallel"})
     q = m.to_budget().input("N_d")
-    assert q.estimate == pytest.approx(0.311577, abs=1e-6)  # nmr-physics notes 3.4 table
+    assert q.estimate == pytest.approx(0.311577, abs=1e-6)  # computed here
     slope = (physics.demag_cylinder_axial(1.001) - physics.demag_cylinder_axial(0.999)) / 0.002
     assert q.standard_uncertainty == pytest.approx(abs(slope) * 0.02, rel=1e-4)
 

@@ -42,7 +42,7 @@ def test_iupac_nuclei(label):
 
 
 def test_shielded_helion_iupac_3he_differs_by_the_shielding():
-    # nmr-physics notes 4: the IUPAC 3He magnitude exceeds CODATA 2022 gamma'_h/2pi by about 59.5 ppm (sigma_h)
+    # computed here: the IUPAC 3He magnitude exceeds CODATA 2022 gamma'_h/2pi by about 59.5 ppm (sigma_h)
     bare = abs(nucleus("3He").gyromagnetic_ratio().value)
     shielded = nucleus("shielded-helion").gyromagnetic_ratio(2022).value
     assert (bare / shielded - 1) * 1e6 == pytest.approx(59.5, abs=0.2)

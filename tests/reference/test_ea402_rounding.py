@@ -1,6 +1,6 @@
 """Rounding of reported results: JCGM 100:2008 7.2.6 and EA-4/02 M (2013) clause 6.
 
-GUM 7.2.6 (wording recalled in ../shared/notes/worked-examples.md §4c, from memory): U to at most two
+GUM 7.2.6 (wording from memory): U to at most two
 significant digits, the estimate to the same decimal place; its example 10.057 62 ohm with
 u_c = 27 mOhm becomes 10.058 ohm.  EA-4/02 (from memory, as in §6 of the note): a rounding that
 lowers U by more than 5 % is replaced by rounding up; at two significant digits it never bites

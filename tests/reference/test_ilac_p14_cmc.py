@@ -1,7 +1,7 @@
 """ILAC P14:09/2020, ILAC Policy for Measurement Uncertainty in Calibration: what a CMC entry must contain.
 
-The edition and date are verified (ilac.org news page, stored first page; see
-worked-examples.md section 7); the content of the CMC section is given *from
+The edition and date are verified (ILAC news page announcing the revision, and the
+document's first page); the content of the CMC section is given *from
 memory* (clause numbers not verified):
 
 * a CMC states the measurand, the method / type of instrument, the range and

@@ -1,7 +1,6 @@
 """JCGM 100:2008 (GUM), Annex H.1: calibration of an end gauge.
 
-Inputs and results as transcribed in ../shared/notes/worked-examples.md §1
-(recalled from memory there and reproduced by an independent calculation):
+Inputs and results (recalled from memory and reproduced by an independent calculation):
 Table H.1 rows, u_c = 32 nm (H.1.4), nu_eff = 16.7 taken as 16 (H.1.6),
 k = t_99(16) = 2.92 and U_99 = 93 nm (H.1.6).
 """
@@ -63,7 +62,7 @@ def test_combined_dof_coverage_and_expanded():
     assert round(r.effective_dof, 1) == 16.7  # H.1.6, from unrounded inputs
     assert round(r.coverage_factor, 2) == 2.92  # H.1.6: t_99(16), nu_eff truncated
     # H.1.6: U_99 = k u_c = 2.92 x 32 nm = 93 nm, from the rounded u_c; unrounded it is 92.5 nm
-    # (worked-examples.md §1, recomputed), which rounds to 92 nm to nearest and to 93 nm rounding up
+    # (recomputed here), which rounds to 92 nm to nearest and to 93 nm rounding up
     assert round(round(r.coverage_factor, 2) * round(r.standard_uncertainty)) == 93
     assert round(r.expanded_uncertainty, 1) == 92.5
     s = r.statement(rule="up")  # GUM 7.2.6 allows rounding up a final uncertainty

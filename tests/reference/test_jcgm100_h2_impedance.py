@@ -1,6 +1,6 @@
 """JCGM 100:2008 (GUM), Annex H.2: simultaneous measurement of resistance and reactance.
 
-Table H.2 data and Table H.3 results as in ../shared/notes/worked-examples.md §2 (recalled from memory
+Table H.2 data and Table H.3 results (recalled from memory
 there and reproduced by an independent calculation): the correlations of the means come from the
 simultaneous readings (GUM 5.2.3, eq. 17).
 """
@@ -39,7 +39,7 @@ def test_table_h3_values_and_uncertainties():
     res = evaluate(_budget())
     R, X, Z = res["R"], res["X"], res["Z"]
     # Table H.3: 127.732(71), 219.847(295), 254.260(236) ohm.  u(X) recomputes as 0.29558 ohm
-    # (worked-examples.md §2), one unit of the last printed digit from 0.295: checked to that unit.
+    # (recomputed here), one unit of the last printed digit from 0.295: checked to that unit.
     assert round(R.estimate, 3) == 127.732 and round(R.standard_uncertainty, 3) == 0.071
     assert round(X.estimate, 3) == 219.847 and abs(X.standard_uncertainty - 0.295) <= 0.001
     assert round(Z.estimate, 3) == 254.260 and round(Z.standard_uncertainty, 3) == 0.236

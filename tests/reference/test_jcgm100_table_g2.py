@@ -1,7 +1,7 @@
 """JCGM 100:2008 (GUM), Annex G, Table G.2: t_p(nu) for coverage probability p.
 
-The table values (2 decimals; 3 in the nu = 100 and infinity rows) as transcribed in
-../shared/notes/worked-examples.md §4a (recalled from memory there, matched there to printed
+The table values (2 decimals; 3 in the nu = 100 and infinity rows) recalled from memory,
+matched to printed
 handbook t-tables for 90/95/99 % and nu = 1-10, and recomputed with scipy).  The 68.27, 95.45 and
 99.73 % columns use the exact normal probabilities erf(k/sqrt 2).
 """

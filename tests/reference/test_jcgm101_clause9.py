@@ -1,7 +1,6 @@
 """JCGM 101:2008 (GUM Supplement 1), clause 9: the additive model (9.2) and the comparison loss (9.4).
 
-Published figures as transcribed in ../shared/notes/worked-examples.md §5 (recalled from memory
-there, each reproduced there by an independent calculation); the exact values used beside them
+Published figures (recalled from memory, each reproduced by an independent calculation); the exact values used beside them
 are computed in this file with scipy.stats, independently of the engine.
 
 Tolerances.  A Monte Carlo figure is compared with
@@ -122,7 +121,7 @@ def test_9_2_3_rectangular_inputs():
 
 def test_9_2_4_one_dominant_rectangular_input():
     # JCGM 101:2008 9.2.4: X1..X3 ~ N(0, 1), X4 rectangular with standard deviation 10.  The MCM interval
-    # [-17.0, 17.0] is published (from memory) and confirmed exactly; for the GUF the note's recomputed
+    # [-17.0, 17.0] is published (from memory) and confirmed exactly; for the GUF the recomputed
     # u = sqrt(103) = 10.1 and U = 19.9 are used (memory has 10.2 and 20.0, which do not reproduce).
     a = 10.0 * math.sqrt(3.0)
     b = _additive([Q.normal("x1", 0.0, 1.0), Q.normal("x2", 0.0, 1.0), Q.normal("x3", 0.0, 1.0),
@@ -222,7 +221,7 @@ def test_9_4_at_x1_zero(r):
 def test_9_4_second_order_terms():
     # The second-order law (JCGM 100:2008 5.1.2 note) is exact for a quadratic model with normal inputs:
     # here sum_ij (1/2)(d2f/dxi dxj)^2 u^4 = (1/2)(2^2 + 2^2) u^4 = 4 u^4, so u = 2 u^2 = 0.000 050, the exact
-    # standard deviation of u^2 chi2_2 (scipy.stats) and the MCM value.  The note in worked-examples.md gives
+    # standard deviation of u^2 chi2_2 (scipy.stats) and the MCM value.  A recalled table
     # sqrt(2) u^2 = 0.000 035 for this row; that value keeps only one of the two equal terms and does not
     # follow from the 5.1.2 formula, so it is not used as an oracle.
     assert second_order.combined_uncertainty(_loss(0.0, 0.0)) == pytest.approx(stats.chi2(2).std() * U_X**2,

