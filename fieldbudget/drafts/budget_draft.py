@@ -23,6 +23,7 @@ from typing import Any
 from ..errors import CorrelationError, ExpressionError, FieldbudgetError, InputError
 from .field import (
     Field,
+    Observable,
     message_for,
     parse_choice,
     parse_correlation,
@@ -135,7 +136,7 @@ _OPTION_KEYS = ("coverage_probability", "coverage_policy", "coverage_factor", "d
 _QUOTED = re.compile(r"'([^']+)'")
 
 
-class BudgetDraft:
+class BudgetDraft(Observable):
     """The editable state of one budget.
 
     Parameters
@@ -216,17 +217,11 @@ class BudgetDraft:
         return t
 
     # -- listeners -----------------------------------------------------------------
-    def subscribe(self, listener: Listener) -> Callable[[], None]:
-        """Call ``listener(draft)`` after every change; returns a function that unsubscribes."""
-        self._listeners.append(listener)
-        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
-
     def _changed(self) -> None:
         if self._batch:
             return
         self.rebuild()
-        for fn in list(self._listeners):
-            fn(self)
+        self._notify()
 
     # -- edits -----------------------------------------------------------------------
     def _row(self, row: int | InputRow) -> InputRow:

@@ -20,7 +20,7 @@ from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 from ..errors import FieldbudgetError, InputError
-from .field import Field, message_for, parse_choice, parse_readings, parse_text
+from .field import Field, Observable, message_for, parse_choice, parse_readings, parse_text
 
 _log = logging.getLogger("fieldbudget.drafts")
 
@@ -94,7 +94,7 @@ def _text(v: Any) -> str:
     return str(v)
 
 
-class CalibrationDraft:
+class CalibrationDraft(Observable):
     """The editable state of one calibration of a field instrument against the NMR reference.
 
     Parameters
@@ -140,14 +140,9 @@ class CalibrationDraft:
         return {k: Field(k, _text(values.get(k, "")), p) for k, (_, p) in POINT_KEYS.items()}
 
     # -- listeners and edits ----------------------------------------------------------
-    def subscribe(self, listener: Listener) -> Callable[[], None]:
-        self._listeners.append(listener)
-        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
-
     def _changed(self) -> None:
         self.rebuild()
-        for fn in list(self._listeners):
-            fn(self)
+        self._notify()
 
     def set(self, point: int | None, key: str, text: object) -> bool:
         """Set a point's field (``point`` = index) or a setting (``point`` = None) from text."""

@@ -201,3 +201,20 @@ class Field:
     def __repr__(self) -> str:
         tail = f", error={self.error!r}" if self.error else ""
         return f"<Field {self.name}={self.text!r}{tail}>"
+
+
+class Observable:
+    """Listeners called with the object after each change (the one notification mechanism of the drafts)."""
+
+    _listeners: list[Callable[[Any], None]]
+
+    def subscribe(self, listener: Callable[[Any], None]) -> Callable[[], None]:
+        """Call ``listener(self)`` after every change; returns a function that unsubscribes."""
+        if not hasattr(self, "_listeners"):
+            self._listeners = []
+        self._listeners.append(listener)
+        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
+
+    def _notify(self) -> None:
+        for fn in list(getattr(self, "_listeners", ())):
+            fn(self)

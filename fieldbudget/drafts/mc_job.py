@@ -14,7 +14,7 @@ from collections.abc import Callable
 from typing import Any
 
 from ..errors import FieldbudgetError, InputError, MonteCarloCancelled
-from .field import Field, message_for
+from .field import Field, Observable, message_for
 
 __all__ = ["STATES", "MonteCarloJob"]
 
@@ -41,7 +41,7 @@ def _parse_seed(text: str, name: str) -> int:
     return n
 
 
-class MonteCarloJob:
+class MonteCarloJob(Observable):
     """State of one Monte Carlo propagation at a time.
 
     Parameters
@@ -77,10 +77,6 @@ class MonteCarloJob:
         self._thread: threading.Thread | None = None
         self._listeners: list[Callable[[MonteCarloJob], None]] = []
         self._lock = threading.Lock()
-
-    def subscribe(self, listener: Callable[[MonteCarloJob], None]) -> Callable[[], None]:
-        self._listeners.append(listener)
-        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
 
     def _notify(self) -> None:
         for fn in list(self._listeners):

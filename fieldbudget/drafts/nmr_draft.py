@@ -25,7 +25,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import BudgetFileError, FieldbudgetError, InputError
-from .field import Field, message_for, parse_choice, parse_readings, parse_text
+from .field import Field, Observable, message_for, parse_choice, parse_readings, parse_text
 from .readings import readings_from_csv
 
 _log = logging.getLogger("fieldbudget.drafts")
@@ -217,7 +217,7 @@ def default_choices() -> dict[str, tuple]:
     return out
 
 
-class NMRDraft:
+class NMRDraft(Observable):
     """The editable state of one NMR measurement description.
 
     Parameters
@@ -264,14 +264,9 @@ class NMRDraft:
         return cls(json.loads(p.read_text(encoding="utf-8")), base_dir=p.parent)
 
     # -- listeners ---------------------------------------------------------------------
-    def subscribe(self, listener: Listener) -> Callable[[], None]:
-        self._listeners.append(listener)
-        return lambda: self._listeners.remove(listener) if listener in self._listeners else None
-
     def _changed(self) -> None:
         self.rebuild()
-        for fn in list(self._listeners):
-            fn(self)
+        self._notify()
 
     # -- edits ---------------------------------------------------------------------------
     def set(self, path: str, text: object) -> bool:
@@ -298,8 +293,7 @@ class NMRDraft:
             readings = readings_from_csv(content, column, where=name)
         except InputError as err:
             self.fields["frequency.readings_Hz"].error = message_for(err)
-            for fn in list(self._listeners):
-                fn(self)
+            self._notify()
             return False
         for path, f in self.fields.items():
             if path in ("frequency.value_Hz", "frequency.u_Hz", "frequency.dof") or \
