@@ -9,6 +9,8 @@ catch builtins keep working.
 
 from __future__ import annotations
 
+from types import MappingProxyType
+
 __all__ = [
     "FieldbudgetError",
     "InputError",
@@ -22,6 +24,7 @@ __all__ = [
     "SchemaVersionError",
     "MonteCarloCancelled",
     "ReportToolMissing",
+    "Finding",
     "FieldbudgetWarning",
     "PhysicsWarning",
     "CalibrationRangeWarning",
@@ -153,6 +156,77 @@ class MonteCarloCancelled(FieldbudgetError):
 
 class ReportToolMissing(FieldbudgetError):
     """A program a report format needs (e.g. chromium for PDF) is not installed."""
+
+
+class Finding(str):
+    """A structured warning: a plain-word message that also carries what it concerns.
+
+    It *is* the message (a ``str``), so code that prints or searches warnings
+    keeps working; forms and reports use the attributes instead of matching
+    words:
+
+    ``code``
+        a stable identifier, e.g. ``"nmr.gradient_invalid"``;
+    ``key``
+        the input-file key the finding concerns (``"gradient.gradient_T_per_m"``),
+        or ``None`` when it concerns the whole result;
+    ``values``
+        the numbers involved, as a dict of plain JSON values;
+    ``severity``
+        ``"warning"`` (the result stands, read the caution) or ``"invalid"``
+        (the reading may be invalid).
+
+    ``Finding.from_dict(f.to_dict()) == f`` and the attributes survive.
+    """
+
+    __slots__ = ("code", "key", "values", "severity")
+    SEVERITIES = ("warning", "invalid")
+
+    def __new__(cls, message: str, code: str = "", key: str | None = None, values: dict | None = None,
+                severity: str = "warning") -> Finding:
+        if not isinstance(message, str) or not message:
+            raise InputError("message", message, "a non-empty text", "finding")
+        if severity not in cls.SEVERITIES:
+            raise InputError("severity", severity, f"one of {list(cls.SEVERITIES)}", "finding")
+        self = super().__new__(cls, message)
+        self.code = str(code)
+        self.key = key
+        self.values = MappingProxyType(dict(values or {}))
+        self.severity = severity
+        return self
+
+    @property
+    def message(self) -> str:
+        return str.__str__(self)
+
+    def __setattr__(self, name, value):
+        if hasattr(self, "severity"):  # set once in __new__, then frozen
+            raise AttributeError(f"Finding is immutable (cannot set {name!r})")
+        object.__setattr__(self, name, value)
+
+    def __reduce__(self):
+        return (type(self), (self.message, self.code, self.key, dict(self.values), self.severity))
+
+    def __repr__(self) -> str:
+        where = f" at {self.key}" if self.key else ""
+        return f"<Finding {self.code or 'warning'}{where}: {self.message}>"
+
+    def to_dict(self) -> dict:
+        return {"message": self.message, "code": self.code, "key": self.key, "values": dict(self.values),
+                "severity": self.severity}
+
+    @classmethod
+    def from_dict(cls, d: dict) -> Finding:
+        return cls(d["message"], d.get("code", ""), d.get("key"), d.get("values"), d.get("severity", "warning"))
+
+    @classmethod
+    def coerce(cls, w: object) -> Finding:
+        """A Finding from a Finding, its dict, or a plain message (code ``""``, key ``None``)."""
+        if isinstance(w, Finding):
+            return w
+        if isinstance(w, dict):
+            return cls.from_dict(w)
+        return cls(str(w))
 
 
 class FieldbudgetWarning(UserWarning):

@@ -18,13 +18,13 @@ from .distributions import (
 from .expression import Expression
 from .gum import evaluate, rebase, sensitivities
 from .model import Model
-from .quantities import InputQuantity
+from .quantities import ROLES, InputQuantity
 from .results import BudgetResult, Contribution, VectorResult
 from .rounding import RoundedResult, round_result
 
 __all__ = [
     "Arcsine", "Budget", "BudgetResult", "Contribution", "CurvilinearTrapezoid", "Expression", "InputQuantity",
-    "Measurand", "Model", "Normal", "Rectangular", "RoundedResult", "Triangular", "TypeA", "VectorResult",
+    "Measurand", "Model", "Normal", "ROLES", "Rectangular", "RoundedResult", "Triangular", "TypeA", "VectorResult",
     "coverage_factor", "dof_from_reliability", "evaluate", "montecarlo", "rebase", "round_result",
     "second_order", "sensitivities", "validation",
 ]

@@ -5,6 +5,11 @@ An input has a symbol, an estimate, a unit, how its uncertainty is stated (a
 and a free note.  ``reference`` names the reference value (a CODATA name) the
 estimate was taken from, in that reference's own unit, so that a budget can be
 re-evaluated under another CODATA edition (:func:`fieldbudget.engine.rebase`).
+
+``role`` says what kind of knowledge the input is, for the traceability
+statement of reports (ISO/IEC 17025:2017 6.5, 7.8.4.1), and ``provenance``
+holds the facts that go with it (see :data:`ROLES`).  The layers that build
+budgets set them; an input without a role has ``role == ""``.
 """
 
 from __future__ import annotations
@@ -25,12 +30,24 @@ from .distributions import (
     dof_from_reliability,
 )
 
-__all__ = ["InputQuantity"]
+__all__ = ["InputQuantity", "ROLES"]
+
+#: The roles an input may have, each with the provenance keys that describe it
+#: (all optional, text values).
+ROLES: dict[str, tuple[str, ...]] = {
+    "reference_constant": ("codata_name", "edition"),        # a CODATA recommended value
+    "published_data": ("citation",),                         # a value from the literature
+    "calibrated": ("certificate", "issuer", "date"),         # from a calibration certificate
+    "lab_characterisation": ("report",),                     # the lab's own characterisation
+    "convention": ("definition",),                           # a defined value (e.g. 25 degC reference)
+    "measured": (),                                          # Type A, from the readings of this measurement
+    "specification": ("document",),                          # a manufacturer's or standard's specification
+}
 
 _HALF_WIDTH = {"rectangular": Rectangular, "triangular": Triangular, "arcsine": Arcsine}
 _FILE_KEYS = {
     "value", "u", "expanded", "k", "half_width", "distribution", "readings", "dof", "unit", "source", "note",
-    "reference", "description", "limit_uncertainty", "relative_uncertainty_of_u",
+    "reference", "description", "limit_uncertainty", "relative_uncertainty_of_u", "role", "provenance",
 }
 
 
@@ -41,6 +58,33 @@ def _check_symbol(symbol: object, where: str = "") -> str:
     if symbol == "pi":
         raise InputError("symbol", symbol, "a name other than 'pi' (pi is the constant)", where)
     return symbol
+
+
+def _check_role(role: object, where: str) -> None:
+    if role != "" and role not in ROLES:
+        raise InputError("role", role, f"one of {sorted(ROLES)} (or left out)", where)
+
+
+def _check_provenance(role: str, provenance: object, where: str) -> tuple[tuple[str, str], ...]:
+    """Normalise to a sorted tuple of (key, text) pairs; keys must belong to the role."""
+    if isinstance(provenance, Mapping):
+        items = list(provenance.items())
+    elif isinstance(provenance, (tuple, list)) and all(isinstance(p, (tuple, list)) and len(p) == 2
+                                                       for p in provenance):
+        items = [tuple(p) for p in provenance]
+    else:
+        raise InputError("provenance", provenance, "an object of text values", where)
+    if items and not role:
+        raise InputError("provenance", dict(items), "given only with a 'role'", where)
+    allowed = ROLES.get(role, ())
+    for key, value in items:
+        if key not in allowed:
+            raise InputError(f"provenance.{key}", value,
+                             f"one of the keys {list(allowed)} for role {role!r}" if allowed
+                             else f"left out for role {role!r} (it has no provenance keys)", where)
+        if not isinstance(value, str):
+            raise InputError(f"provenance.{key}", value, "a text string", where)
+    return tuple(sorted(items))
 
 
 @dataclass(frozen=True)
@@ -56,10 +100,14 @@ class InputQuantity:
     reference: str | None = None
     description: str = ""
     where: str = field(default="", repr=False, compare=False)
+    role: str = ""
+    provenance: tuple[tuple[str, str], ...] = ()
 
     def __post_init__(self) -> None:
         where = self.where or f"input {self.symbol!r}"
         _check_symbol(self.symbol, where)
+        _check_role(self.role, where)
+        object.__setattr__(self, "provenance", _check_provenance(self.role, self.provenance, where))
         try:
             x = float(self.estimate)
         except (TypeError, ValueError):
@@ -94,6 +142,11 @@ class InputQuantity:
     def evaluation_type(self) -> str:
         """'A' for readings, 'B' otherwise (JCGM 100:2008 2.3.2, 2.3.3)."""
         return "A" if isinstance(self.distribution, TypeA) else "B"
+
+    @property
+    def provenance_dict(self) -> dict[str, str]:
+        """``provenance`` as a plain dict."""
+        return dict(self.provenance)
 
     def replace(self, **changes) -> InputQuantity:
         """A copy with ``changes`` applied (the original is unchanged)."""
@@ -144,6 +197,10 @@ class InputQuantity:
                 d[key] = getattr(self, key)
         if self.reference:
             d["reference"] = self.reference
+        if self.role:
+            d["role"] = self.role
+        if self.provenance:
+            d["provenance"] = dict(self.provenance)
         return d
 
     @classmethod
@@ -206,5 +263,9 @@ class InputQuantity:
         for key in ("unit", "source", "note", "description", "reference"):
             if key in d and not isinstance(d[key], str):
                 raise InputError(key, d[key], "a text string", here)
+        for key in ("role",):
+            if key in d and not isinstance(d[key], str):
+                raise InputError(key, d[key], f"one of {sorted(ROLES)}", here)
         return cls(symbol, value, dist, unit=d.get("unit", ""), source=d.get("source", ""), note=d.get("note", ""),
-                   reference=d.get("reference"), description=d.get("description", ""), where=here)
+                   reference=d.get("reference"), description=d.get("description", ""), where=here,
+                   role=d.get("role", ""), provenance=d.get("provenance", ()))
