@@ -10,7 +10,12 @@ import html
 import math
 from collections.abc import Iterable, Sequence
 
-__all__ = ["escape", "fmt", "fmt_dof", "html_table", "text_table", "html_block"]
+__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "group_digits", "html_table", "text_table", "html_block",
+           "DOF_DISPLAY_LIMIT"]
+
+#: Effective degrees of freedom above this are shown as "> 1000" everywhere
+#: (the coverage factor no longer depends on them to the digits printed).
+DOF_DISPLAY_LIMIT = 1000
 
 
 def escape(text: object) -> str:
@@ -32,10 +37,74 @@ def fmt(x: float | None, digits: int = 6) -> str:
 
 
 def fmt_dof(nu: float | None) -> str:
-    """Degrees of freedom: 'inf' for infinite, one decimal otherwise."""
+    """Degrees of freedom: 'inf' for infinite, '> 1000' above 1000, one decimal otherwise.
+
+    Every screen and report prints nu through this function, so a large nu_eff
+    reads the same everywhere.
+    """
     if nu is None or math.isinf(nu):
         return "inf"
+    if nu > DOF_DISPLAY_LIMIT:
+        return f"> {DOF_DISPLAY_LIMIT}"
     return f"{nu:.1f}" if nu != int(nu) else f"{int(nu)}"
+
+
+_PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "\u00b5"), (1e-9, "n"),
+             (1e-12, "p"))
+#: Units that take an SI prefix in displays (compound units such as T/m are left alone).
+PREFIXABLE_UNITS = frozenset({"T", "Hz", "m", "s", "V", "A", "W", "ohm", "\u03a9", "g", "Pa"})
+
+
+def group_digits(text: str, sep: str = "\u2009") -> str:
+    """Group the digits of a plain decimal number in threes on both sides of the point (thin space).
+
+    ``group_digits("63871234.56789") == "63 871 234.567 89"`` with thin spaces (ISO 80000-1 7.3.1 allows
+    groups of three separated by a small space). Four-digit runs are left whole, as usual practice does.
+    """
+    sign = ""
+    if text[:1] in "+-":
+        sign, text = text[0], text[1:]
+    whole, dot, frac = text.partition(".")
+    if not whole.isdigit() or (frac and not frac.isdigit()):
+        return sign + text
+    if len(whole) > 4:
+        head = len(whole) % 3 or 3
+        whole = whole[:head] + "".join(sep + whole[i:i + 3] for i in range(head, len(whole), 3))
+    if len(frac) > 4:
+        frac = sep.join(frac[i:i + 3] for i in range(0, len(frac), 3))
+    return sign + whole + dot + frac
+
+
+def fmt_si(value: float, unit: str, u: float | None = None, *, digits: int = 6, group: bool = True) -> str:
+    """``value`` with an SI prefix on ``unit`` and its digits set by ``u`` (two significant digits of u).
+
+    ``fmt_si(2.182e-05, "T") == "21.82 \u00b5T"``; ``fmt_si(1.5000123, "T", 4.1e-8)`` shows the value to the
+    decimal place of u's second digit. Units not in :data:`PREFIXABLE_UNITS` keep their unit and get no
+    prefix. Without ``u``, ``digits`` significant digits are shown.
+    """
+    if value is None or not math.isfinite(value):
+        return f"{fmt(value)} {unit}".strip()
+    scale, prefix = 1.0, ""
+    if unit in PREFIXABLE_UNITS:
+        ref = abs(value) if value != 0 else abs(u or 0.0)
+        if ref > 0:
+            for sc, pre in _PREFIXES:
+                if ref >= sc * 0.9995:
+                    scale, prefix = sc, pre
+                    break
+            else:
+                scale, prefix = _PREFIXES[-1]
+    v = value / scale
+    if u is not None and u > 0 and math.isfinite(u):
+        decimals = max(0, 1 - math.floor(math.log10(u / scale)))
+        text = f"{v:.{decimals}f}"
+    else:
+        text = f"{v:.{digits}g}"
+        if "e" in text:
+            text = f"{v:.{digits}e}"
+    if group and "e" not in text:
+        text = group_digits(text)
+    return f"{text} {prefix}{unit}".strip()
 
 
 def html_table(
