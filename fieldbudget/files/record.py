@@ -46,7 +46,9 @@ from typing import Any
 
 from .. import __version__
 from .._display import fmt, html_table
+from .._io import parse_json
 from ..errors import (
+    BudgetFileError,
     DigestMismatch,
     FieldbudgetError,
     InputError,
@@ -628,19 +630,10 @@ def parse_record_text(data: bytes, where: str) -> dict:
     if not data.strip():
         raise RecordError(f"{where}: the file is empty: not a record (damaged, or the save never finished?)")
     try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as err:
-        raise RecordError(f"{where}: damaged record: byte {err.start} is not UTF-8 text") from None
-    try:
-        doc = json.loads(text, object_pairs_hook=_no_duplicates, parse_constant=_refuse_constant)
-    except json.JSONDecodeError as err:
-        if err.pos >= len(text.rstrip()):
-            raise RecordError(f"{where}: damaged record: the file ends before the JSON document does "
-                              f"(truncated at line {err.lineno}, column {err.colno})") from None
-        raise RecordError(f"{where}: damaged record: not valid JSON at line {err.lineno}, column {err.colno} "
-                          f"({err.msg})") from None
-    except ValueError as err:
-        raise RecordError(f"{where}: damaged record: {err}") from None
+        doc = parse_json(data, where, what="record")
+    except BudgetFileError as err:
+        at = f", at {err.pointer}" if err.pointer else ""
+        raise RecordError(f"{where}: damaged record{at}: {err.reason}") from None
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")

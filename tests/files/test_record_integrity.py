@@ -170,8 +170,8 @@ def test_newer_truncated_and_wrong_type_each_have_their_own_message(saved, tmp_p
     (b'{"schema_version": 1}', "no text 'schema_version'"),
     (b'{"schema_version": "one"}', "must be 'major.minor'"),
     (b'{"a": 1, "a": 2}', "duplicate key 'a'"),
-    (b'{"schema_version": "1.0", "x": NaN}', "NaN is not allowed"),
-    (b'{"schema_version": "1.0", "kind": "fieldbudget record"} trailing', "not valid JSON at line 1"),
+    (b'{"schema_version": "1.0", "x": NaN}', "NaN is not a number in JSON"),
+    (b'{"schema_version": "1.0", "kind": "fieldbudget record"} trailing', "is not valid JSON (line 1"),
 ])
 def test_damaged_files_are_refused_with_a_clear_message(tmp_path, content, words):
     p = _write(tmp_path, "bad.json", content)
