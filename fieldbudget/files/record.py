@@ -75,11 +75,12 @@ __all__ = [
     "record_from_dict",
     "save_record",
     "serialise",
+    "sign_record",
     "software_versions",
     "verify_record",
 ]
 
-SCHEMA_VERSION = "1.0"
+SCHEMA_VERSION = "1.1"
 SCHEMA_MAJOR = 1
 RECORD_KIND = "fieldbudget record"
 
@@ -91,7 +92,10 @@ MC_TOLERANCE_FACTOR = 4.0
 _TOP_KEYS = (
     "schema_version", "kind", "revision", "previous_digest", "created_utc", "operator", "remarks",
     "procedure", "codata_edition", "software", "budget", "input_order", "settings", "results", "changes", "digest",
+    "signatures",
 )
+# Keys outside the content digest: the digest itself and the signatures over it.
+_NOT_CONTENT = ("digest", "signatures")
 
 
 # ----------------------------------------------------------------------------
@@ -149,8 +153,8 @@ def canonical_bytes(document: Mapping) -> bytes:
 
 
 def compute_digest(document: Mapping) -> str:
-    """SHA-256 (hex) over the canonical serialisation of ``document`` without its ``digest`` key."""
-    content = {k: v for k, v in _thaw(document).items() if k != "digest"}
+    """SHA-256 (hex) over the canonical serialisation of ``document`` without ``digest`` and ``signatures``."""
+    content = {k: v for k, v in _thaw(document).items() if k not in _NOT_CONTENT}
     return hashlib.sha256(canonical_bytes(content)).hexdigest()
 
 
@@ -218,10 +222,11 @@ class Record:
     schema_version: str = SCHEMA_VERSION
     extra: Mapping = field(default_factory=lambda: MappingProxyType({}), repr=False)
     digest: str = ""
+    signatures: tuple = ()
 
     def __post_init__(self) -> None:
         for name in ("budget", "gum", "input_order", "monte_carlo", "validation", "monte_carlo_settings", "software",
-                     "procedure", "changes", "extra"):
+                     "procedure", "changes", "extra", "signatures"):
             value = getattr(self, name)
             if value is not None:
                 object.__setattr__(self, name, _freeze(_jsonable(value, f"#/{name}")))
@@ -254,14 +259,21 @@ class Record:
             "changes": _thaw(self.changes),
         }
         for k, v in _thaw(self.extra).items():
-            doc.setdefault(k, v)
+            if k not in _NOT_CONTENT:
+                doc.setdefault(k, v)
         return doc
 
     def to_dict(self) -> dict:
-        """The whole record document (plain JSON types), digest included."""
+        """The whole record document (plain JSON types), digest and signatures (when any) included."""
         doc = self.content()
         doc["digest"] = self.digest
+        if self.signatures:
+            doc["signatures"] = _thaw(self.signatures)
         return doc
+
+    @property
+    def signed(self) -> bool:
+        return bool(self.signatures)
 
     def computed_digest(self) -> str:
         """SHA-256 of the current content."""
@@ -299,6 +311,8 @@ class Record:
             ("Monte Carlo", f"{self.monte_carlo['trials']} trials, seed {self.monte_carlo['seed']}"
              if self.monte_carlo else "not run"),
             ("SHA-256", self.digest),
+            ("signatures", "; ".join(f"{s.get('name')} ({s.get('role')}), {s.get('time')}" for s in self.signatures)
+             or "none (protected against accidental damage only)"),
         ]
         return html_table(("", ""), rows, caption="fieldbudget record", css_class="fb-table fb-record")
 
@@ -344,6 +358,7 @@ def record_from_dict(document: Mapping, *, where: str = "record") -> Record:
         schema_version=d.get("schema_version", SCHEMA_VERSION),
         extra=extra,
         digest=d.get("digest", ""),
+        signatures=tuple(d.get("signatures") or ()),
     )
 
 
@@ -506,7 +521,8 @@ def _validate(gum, mc):
 
 def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None, operator: str = "",
                 remarks: str = "", procedure: Any = None, previous: Record | None = None,
-                created_utc: str | None = None) -> Record:
+                created_utc: str | None = None, reason: str = "", sign: Any = None,
+                passphrase: str | None = None) -> Record:
     """Evaluate ``budget`` and return its :class:`Record` (not yet saved).
 
     Parameters
@@ -525,17 +541,27 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         The lab procedure followed, if any.
     previous : Record, optional
         The previous revision of the same budget: the new record gets its
-        revision number + 1, its digest, and the list of changes.
+        revision number + 1, its digest, and the list of changes.  It must be
+        of the same measurand (symbol and unit), and ``reason`` is required.
     created_utc : str, optional
         Time stamp (ISO 8601, UTC, ``Z``); now by default.
+    reason : str
+        Why this revision was made (with ``previous``); it goes into the change log.
+    sign : SigningKey or path of a key file, optional
+        Sign the record (see :mod:`fieldbudget.files.signing`); ``passphrase``
+        unlocks a protected key file.
     """
     from ..engine import evaluate
 
-    for name, value in (("operator", operator), ("remarks", remarks)):
+    for name, value in (("operator", operator), ("remarks", remarks), ("reason", reason)):
         if not isinstance(value, str):
             raise InputError(name, value, "text", "make_record")
     if previous is not None and not isinstance(previous, Record):
         raise InputError("previous", type(previous).__name__, "a Record (the previous revision) or None", "make_record")
+    if previous is not None and not reason.strip():
+        raise InputError("reason", reason, "a text saying why this revision was made (it goes into the change log)",
+                         "make_record with previous")
+    key = _signing_key(sign, passphrase) if sign is not None else None
     b = _as_budget(budget)
     content = _jsonable(b.to_dict(), "#/budget")
     gum = evaluate(b)
@@ -571,8 +597,14 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
 
     revision, prev_digest, changes = 1, None, []
     if previous is not None:
+        old_m, new_m = _measurand_of(previous.gum, previous.budget), _measurand_of(gum_d, content)
+        if old_m != new_m:
+            raise InputError("previous", f"measurand {_measurand_text(old_m)}",
+                             f"a record of the same measurand as the new one ({_measurand_text(new_m)})",
+                             "make_record")
         revision, prev_digest = previous.revision + 1, previous.digest
         changes = budget_changes(previous.budget, content)
+        changes.append({"change": "revision reason", "what": f"revision {revision}", "detail": reason.strip()})
 
     rec = Record(
         budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d,
@@ -581,13 +613,60 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
         previous_digest=prev_digest, changes=tuple(changes),
     )
-    return _with_digest(rec)
+    rec = _with_digest(rec)
+    return sign_record(rec, key) if key is not None else rec
 
 
 def _with_digest(rec: Record) -> Record:
     from dataclasses import replace
 
     return replace(rec, digest=rec.computed_digest())
+
+
+def _measurand_of(gum: Mapping, budget: Mapping) -> tuple[str, str]:
+    m = gum.get("measurand") or budget.get("measurand") or {}
+    if not isinstance(m, Mapping):
+        return (str(m), "")
+    return (str(m.get("symbol", "")), str(m.get("unit", "")))
+
+
+def _measurand_text(m: tuple[str, str]) -> str:
+    return f"{m[0]} in {m[1]}" if m[1] else m[0]
+
+
+def _signing_key(key: Any, passphrase: str | None = None):
+    from .signing import SigningKey, load_signing_key
+
+    if isinstance(key, SigningKey):
+        return key
+    if isinstance(key, (str, Path)):
+        return load_signing_key(key, passphrase)
+    raise InputError("sign", type(key).__name__, "a SigningKey or the path of a key file", "make_record")
+
+
+def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time: str | None = None) -> Record:
+    """The same record with one more signature (content and digest unchanged).
+
+    ``key`` is a :class:`~fieldbudget.files.signing.SigningKey` or a key file
+    path.  A record whose digest does not match its content is refused, and
+    the same key cannot sign twice in the same role.
+    """
+    from dataclasses import replace
+
+    from .signing import sign_digest
+
+    if not isinstance(record, Record):
+        raise InputError("record", type(record).__name__, "a Record", "sign_record")
+    k = _signing_key(key, passphrase)
+    if not record.digest_ok():
+        raise DigestMismatch("not signed: the record's digest does not match its content (it was changed after it "
+                             "was written)")
+    for s in record.signatures:
+        if s.get("fingerprint") == k.fingerprint and s.get("role") == k.role:
+            raise InputError("key", f"{k.name} ({k.role})", "a key that has not signed this record in this role yet",
+                             "sign_record")
+    entry = sign_digest(k, record.digest, time)
+    return replace(record, signatures=(*record.signatures, _freeze(entry)))
 
 
 # ----------------------------------------------------------------------------

@@ -59,7 +59,7 @@ def test_round_trip_save_load_verify(tmp_path, mc_record):
 
 def test_record_holds_what_the_issue_lists(mc_record):
     d = mc_record.to_dict()
-    assert d["schema_version"] == SCHEMA_VERSION == "1.0"
+    assert d["schema_version"] == SCHEMA_VERSION == "1.1"
     assert d["budget"] == Budget.from_dict(nmr_budget()).to_dict()
     assert set(d["software"]) >= {"fieldbudget", "numpy", "scipy", "uncertainties", "python"}
     assert d["codata_edition"] == 2022
@@ -112,7 +112,7 @@ def test_revision_and_change_log():
     b["model"] = "f / (gp * 1e6)"
     b["inputs"]["d_probe"] = {"value": 0.0, "u": 1.5e-8, "unit": "T", "source": "probe report BFSL-P-0107"}
     b["model"] = "f / (gp * 1e6) + d_probe"
-    second = make_record(b, previous=first, created_utc=STAMP)
+    second = make_record(b, previous=first, created_utc=STAMP, reason="new counter readings")
     assert second.revision == 2 and second.previous_digest == first.digest
     kinds = {(c["change"], c["what"]) for c in second.changes}
     assert ("input added", "d_probe") in kinds
@@ -121,8 +121,10 @@ def test_revision_and_change_log():
     assert ("model changed", "model") in kinds
     f_change = next(c for c in second.changes if c["what"] == "f")
     assert "value 63871224.32 -> 63871230.0" in f_change["detail"]
-    third = make_record(b, previous=second, created_utc=STAMP)
-    assert third.revision == 3 and third.changes == ()
+    third = make_record(b, previous=second, created_utc=STAMP, reason="seed changed")
+    assert third.revision == 3
+    assert [c["change"] for c in third.changes] == ["revision reason"]  # the budget itself did not change
+    assert third.changes[0]["detail"] == "seed changed"
 
 
 def test_budget_changes_of_identical_budgets_is_empty():
