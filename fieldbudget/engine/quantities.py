@@ -182,6 +182,8 @@ class InputQuantity:
     @classmethod
     def from_readings(cls, symbol: str, readings: Sequence[float], **kw) -> InputQuantity:
         """Type A: estimate = mean, u = s/sqrt(n), dof = n - 1 (JCGM 100:2008 4.2)."""
+        if isinstance(readings, (str, bytes)):  # tuple("12345") would be five readings
+            raise InputError("readings", readings, "a list of numbers", f"input {symbol!r}")
         d = TypeA(readings=tuple(readings) if readings is not None else (), where=f"input {symbol!r}")
         return cls(symbol, d.mean, d, **kw)
 
