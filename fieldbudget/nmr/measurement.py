@@ -343,8 +343,9 @@ def _build(m: NMRMeasurement) -> Budget:
     except InputError as err:
         raise top.fail("nucleus", f"must be {err.allowed} (got {name!r})") from None
     codata = m.description.get("codata", constants.DEFAULT_EDITION)
-    if codata not in constants.editions() or isinstance(codata, bool):
-        raise top.fail("codata", f"must be one of the CODATA editions {list(constants.editions())} (got {codata!r})")
+    if isinstance(codata, bool) or not isinstance(codata, int) or codata not in constants.editions():
+        raise top.fail("codata", f"must be one of the CODATA editions {list(constants.editions())}, a whole number "
+                                 f"(got {codata!r})")
     p_cov = top.number("coverage_probability", 0.9545)
     if not 0 < p_cov < 1:
         raise top.fail("coverage_probability", f"must lie between 0 and 1 (got {p_cov!r})")
@@ -589,7 +590,7 @@ def _csv_readings(fr: _Reader, m: NMRMeasurement) -> tuple[float, ...]:
     if not rows or col not in rows[0]:
         cols = list(rows[0]) if rows else []
         shown = ", ".join(repr(c) for c in cols[:3]) if len(cols) <= 3 and all(len(c) <= 20 for c in cols) \
-            else f"{len(cols)} columns"
+            else f"{len(cols)} column{'s' if len(cols) != 1 else ''}"
         raise BudgetFileError(m.where, f"{ptr}/column", f"must name a column of {name!r} (header: {shown})")
     out = []
     for i, row in enumerate(rows, start=2):
