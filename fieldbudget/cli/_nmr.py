@@ -37,7 +37,7 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 def run(args: argparse.Namespace) -> int:
     if args.budget_out is not None:
-        check_output(args.budget_out, inputs=(("measurement file", args.file),), force=args.force, what="budget file")
+        check_output(args.budget_out, inputs=(("measurement file", args.file),), force=args.force, what="budget")
     with allow_outside_files(args.allow_outside_files):
         measurement = NMRMeasurement.from_file(args.file)
     result = measurement.evaluate()

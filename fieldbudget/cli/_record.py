@@ -42,6 +42,10 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 
 def run(args: argparse.Namespace) -> int:
+    if args.monte_carlo is not None and args.monte_carlo < 1:
+        raise InputError("--monte-carlo", args.monte_carlo, "a number of trials >= 1")
+    if args.seed is not None and args.seed < 0:
+        raise InputError("--seed", args.seed, "a whole number >= 0")
     if args.previous is None and args.reason:
         raise InputError("--reason", args.reason, "given only with --previous (the revision it explains)")
     if args.previous is not None and not args.reason.strip():

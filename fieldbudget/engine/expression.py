@@ -254,7 +254,7 @@ def _text_nesting(text: str) -> int:
     deep; a long flat sum or product counts 1 however many terms it has.
     """
     chains = [0]  # length of the current ``**`` chain at each parenthesis level
-    deepest = signs = 0
+    total = deepest = signs = 0  # total = sum(chains), kept as we go
     prev = "("
     for tok in _TOKENS.findall(text):
         if tok in "+-" and prev in ("(", ",", "+", "-", "*", "/", "**"):
@@ -265,12 +265,14 @@ def _text_nesting(text: str) -> int:
                 chains.append(0)
             elif tok == ")":
                 if len(chains) > 1:
-                    chains.pop()
+                    total -= chains.pop()
             elif tok == "**":
                 chains[-1] += 1
+                total += 1
             elif tok in ("+", "-", "*", "/", ","):
+                total -= chains[-1]
                 chains[-1] = 0
-        deepest = max(deepest, len(chains) - 1 + sum(chains) + signs)
+        deepest = max(deepest, len(chains) - 1 + total + signs)
         prev = tok
     return deepest
 

@@ -589,9 +589,9 @@ def _csv_readings(fr: _Reader, m: NMRMeasurement) -> tuple[float, ...]:
     col = spec["column"]
     if not rows or col not in rows[0]:
         cols = list(rows[0]) if rows else []
-        shown = ", ".join(repr(c) for c in cols[:3]) if len(cols) <= 3 and all(len(c) <= 20 for c in cols) \
-            else f"{len(cols)} column{'s' if len(cols) != 1 else ''}"
-        raise BudgetFileError(m.where, f"{ptr}/column", f"must name a column of {name!r} (header: {shown})")
+        # the header is not shown: messages never print another file's contents
+        raise BudgetFileError(m.where, f"{ptr}/column", f"must name a column of {name!r} by its header (it has "
+                              f"{len(cols)} column{'s' if len(cols) != 1 else ''}, none named {col!r})")
     out = []
     for i, row in enumerate(rows, start=2):
         cell = (row[col] or "").strip()
