@@ -183,10 +183,9 @@ class TeslameterCalibration:
             rel, ab = float(tol.get("relative", 0.0)), float(tol.get("absolute_T", 0.0))
             for p in result.points:
                 half = rel * abs(p.reference) + ab
-                # The propagated values (Monte Carlo when it was used), not the first-order table.
+                # The propagated values and distribution (Monte Carlo's histogram when it was used).
                 verdicts.append(assess_conformity(
-                    Tolerance(-half, half, "T", str(tol.get("source", ""))), estimate=p.error,
-                    standard_uncertainty=p.u_error, coverage_factor=p.expanded_uncertainty / p.u_error,
+                    Tolerance(-half, half, "T", str(tol.get("source", ""))), p, distribution="auto",
                     measurand=f"E at {p.name}"))
         warnings = tuple(dict.fromkeys(tuple(result.warnings) + (tuple(curve.warnings) if curve else ())))
         return TeslameterOutcome(calibration=result, curve=curve, conformity=tuple(verdicts), warnings=warnings)
