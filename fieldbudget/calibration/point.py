@@ -296,6 +296,7 @@ class CalibrationSet:
     _budget: Budget = field(default=None, init=False, repr=False, compare=False)  # type: ignore[assignment]
     _notes: tuple[str, ...] = field(default=(), init=False, repr=False, compare=False)
     _ref_values: tuple[float, ...] = field(default=(), init=False, repr=False, compare=False)
+    _ranked_nonlinear: tuple[str, ...] = field(default=(), init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         where = _WHERE
@@ -555,19 +556,26 @@ class CalibrationSet:
         model = self._budget.model
         x0 = {q.symbol: q.estimate for q in self._budget.inputs}
         f0 = np.array(model.evaluate_float(x0), dtype=float)
+        uc2 = np.array([r.standard_uncertainty ** 2 for r in gum_results])
         effect = np.zeros(len(f0))
+        self_share: dict[str, float] = {}
         for sym in nonlinear:
             u = next(q.standard_uncertainty for q in self._budget.inputs if q.symbol == sym)
             fp = np.array(model.evaluate_float({**x0, sym: x0[sym] + u}), dtype=float)
             fm = np.array(model.evaluate_float({**x0, sym: x0[sym] - u}), dtype=float)
             c2 = fp - 2 * f0 + fm
-            effect += c2 * c2 / 2 + (c2 / 2) ** 2
+            e = c2 * c2 / 2 + (c2 / 2) ** 2
+            effect += e
+            with np.errstate(divide="ignore", invalid="ignore"):
+                sh = np.where(uc2 > 0, e / np.where(uc2 > 0, uc2, 1.0), np.where(e > 0, np.inf, 0.0))
+            self_share[sym] = float(np.max(sh))
         best, where = 0.0, ""
-        for j, r in enumerate(gum_results):
-            uc2 = r.standard_uncertainty ** 2
-            share = (math.inf if effect[j] > 0 else 0.0) if uc2 == 0 else float(effect[j] / uc2)
+        for j in range(len(gum_results)):
+            share = (math.inf if effect[j] > 0 else 0.0) if uc2[j] == 0 else float(effect[j] / uc2[j])
             if share > best:
                 best, where = share, model.outputs[j]
+        ranked = sorted(self_share, key=lambda s: -self_share[s])
+        object.__setattr__(self, "_ranked_nonlinear", tuple(ranked))
         return best, where
 
     def evaluate(self, propagation: str = "auto", *, trials: int = 200_000, seed: int | None = None) -> \
@@ -593,6 +601,8 @@ class CalibrationSet:
         nonlinear = sorted({c.symbol for r, syms in zip(gum_results, own) for c in r.contributions
                             if c.symbol in syms and c.sensitivity == 0 and c.standard_uncertainty > 0})
         share, worst = self._second_order_share(gum_results, nonlinear)
+        ranked = list(self._ranked_nonlinear)
+        named = ", ".join(ranked[:4]) + (f" and {len(ranked) - 4} more" if len(ranked) > 4 else "")
         outs = self._budget.model.outputs
         if propagation == "monte carlo":
             use_mc, reason = True, "Monte Carlo was asked for (propagation='monte carlo')"
@@ -602,11 +612,11 @@ class CalibrationSet:
             use_mc, reason = False, ("auto: every input has a non-zero first-order sensitivity, so the first-order "
                                      "law of propagation applies")
         elif share > AUTO_THRESHOLD:
-            use_mc, reason = True, (f"auto: the zero-sensitivity inputs ({', '.join(nonlinear)}) matter: their "
+            use_mc, reason = True, (f"auto: the zero-sensitivity inputs ({named}) matter: their "
                                     f"second-order effect is {100 * share:.3g} % of u_c^2 at {worst} "
                                     f"(> {100 * AUTO_THRESHOLD:g} %), so Monte Carlo (JCGM 101:2008)")
         else:
-            use_mc, reason = False, (f"auto: the zero-sensitivity inputs ({', '.join(nonlinear)}) are negligible: "
+            use_mc, reason = False, (f"auto: the zero-sensitivity inputs ({named}) are negligible: "
                                      f"their second-order effect is at most {100 * share:.2g} % of u_c^2 "
                                      f"(<= {100 * AUTO_THRESHOLD:g} %), so first-order GUM")
         notes = list(self._notes)
@@ -628,7 +638,7 @@ class CalibrationSet:
             cov = cov_gum
             method = "GUM law of propagation, first order (JCGM 100:2008 5.1, 5.2)"
         if nonlinear and share > AUTO_THRESHOLD:
-            txt = (f"inputs {', '.join(nonlinear)} have zero first-order sensitivity at their estimates: the "
+            txt = (f"inputs {named} have zero first-order sensitivity at their estimates: the "
                    "first-order law of propagation underestimates their effect (no bias and no uncertainty from "
                    "them)")
             notes.append(txt + ("; the results are from Monte Carlo" if use_mc else
