@@ -241,6 +241,8 @@ class CalibrationFile:
                         raise sec.fail(k, f"must be true or false (got {v!r})")
                 else:
                     sec.text(k)
+        if top.has("decision_rule") and not top.has("tolerance"):
+            raise top.fail("tolerance", "missing: a decision_rule needs the tolerance it decides against")
         self = cls(copy.deepcopy(dict(d)), where=where, base_dir=str(base_dir))
         self._check_points()
         self.calibration_set()  # every other check (values, names, references) happens here, once

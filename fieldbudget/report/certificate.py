@@ -27,10 +27,10 @@ from typing import Any
 
 from ..engine import round_result
 from ..errors import InputError
-from ._env import Raw, html_env, markdown_env
+from ._env import html_env, markdown_env
 
 __all__ = ["CERTIFICATE_FORMATS", "CHECKLIST", "CertificateContent", "certificate_content", "checklist",
-           "render_certificate", "write_certificate"]
+           "missing", "render_certificate", "render_content", "write_certificate"]
 
 CERTIFICATE_FORMATS = ("html", "pdf", "md")
 
@@ -351,6 +351,12 @@ def _plot(summ: Mapping, res: Mapping) -> str:
 
 
 # ------------------------------------------------------------------------------------------ rendering
+def _css_string(text: str) -> str:
+    """A CSS string literal for the page margin boxes (user text cannot end the string or the style)."""
+    out = "".join(ch if ch.isalnum() or ch in " .,:;()/-_+'" else f"\\{ord(ch):x} " for ch in str(text))
+    return f'"{out}"'
+
+
 def _context(c: CertificateContent) -> dict:
     miss = missing(c)
     return {"c": c, "missing": miss, "draft": bool(miss), "checklist": checklist(c)}
@@ -360,11 +366,23 @@ def render_certificate(record: Any, to: str) -> bytes:
     """The certificate of a calibration record as bytes: ``to`` is ``html``, ``pdf`` or ``md``."""
     if to not in CERTIFICATE_FORMATS:
         raise InputError("certificate format", to, f"one of {', '.join(CERTIFICATE_FORMATS)}", "certificate")
-    c = certificate_content(record)
+    return render_content(certificate_content(record), to)
+
+
+def render_content(c: CertificateContent, to: str) -> bytes:
+    """Render an already built :class:`CertificateContent` (``html``, ``pdf`` or ``md``)."""
+    if to not in CERTIFICATE_FORMATS:
+        raise InputError("certificate format", to, f"one of {', '.join(CERTIFICATE_FORMATS)}", "certificate")
     ctx = _context(c)
     if to == "md":
         return markdown_env().get_template("certificate.md.j2").render(**ctx).encode("utf-8")
-    html = html_env().get_template("certificate.html.j2").render(plot=Raw(c.plot_svg), **ctx)
+    from markupsafe import Markup
+
+    css = {k: Markup(_css_string(v)) for k, v in (
+        ("id", f"Certificate {c.certificate_id or '(no identification)'}"), ("lab", c.lab_name),
+        ("draft", "DRAFT, incomplete" if ctx["draft"] else ""))}
+    # the SVG is built here from numbers and escaped labels only
+    html = html_env().get_template("certificate.html.j2").render(plot=Markup(c.plot_svg), css=css, **ctx)
     if to == "html":
         return html.encode("utf-8")
     from .pdf import html_to_pdf
