@@ -41,8 +41,9 @@ FORMAT = "fieldbudget-calibration/1"
 SHARED_NMR_INPUTS = ("y_tb", "y_age", "d_probe", "alpha_T", "t_ref", "N_d", "chi", "c_chi", "t_chi")
 
 _TOP = {"format", "certificate_id", "title", "lab", "customer", "item", "dates", "environment", "method",
-        "traceability", "remarks", "authorised_by", "points", "resolution_T", "tilt", "position_offset", "temperature_coefficient",
-        "zero_offset", "field_reversal", "shared", "curve", "tolerance", "decision_rule", "propagation",
+        "traceability", "remarks", "authorised_by", "points", "resolution_T", "tilt", "position_offset",
+        "temperature_coefficient", "zero_offset", "field_reversal", "shared", "curve", "tolerance", "decision_rule",
+        "propagation",
         "monte_carlo_trials", "monte_carlo_seed"}
 _SECTIONS = {
     "lab": {"name", "address", "place_of_calibration", "accreditation"},
@@ -65,7 +66,6 @@ _REF_VALUE = {"value_T", "u_T", "dof", "source"}
 _REF_FILE = {"measurement"}
 _REF_BUDGET = {"budget", "from", "input_order"}
 _CSV = {"path", "column"}
-_TEXT_REQUIRED = ()  # the certificate decides what is missing; the file only checks types
 
 
 class _At:
@@ -341,6 +341,14 @@ class CalibrationFile:
 
         raw = p.data["reference"]
         ptr = p.at("reference")
+        if isinstance(raw, Mapping) and isinstance(raw.get("measurement"), Mapping):
+            # an NMR measurement given inline (as a procedure builds it), paths relative to this file
+            _At(raw, ptr, self.where).obj(_REF_FILE, "a reference")
+            from ..nmr.measurement import NMRMeasurement
+
+            m = NMRMeasurement.from_dict(raw["measurement"], where=f"{self.where}, at {ptr}/measurement",
+                                         base_dir=self.base_dir)
+            return m.to_budget(), None
         if isinstance(raw, Mapping) and "measurement" in raw:
             r = _At(raw, ptr, self.where).obj(_REF_FILE, "a reference")
             rel = r.text("measurement")
@@ -471,6 +479,9 @@ class CalibrationFile:
                 del raw["readings_csv"]
                 raw["readings_T"] = readings
             ref, path = self._reference(p, i)
+            if isinstance(raw["reference"].get("measurement"), Mapping):
+                raw["reference"] = {"budget": ref.to_dict(), "from": "NMR measurement given in the file",
+                                    "input_order": [q.symbol for q in ref.inputs]}
             if path is not None:
                 rel = raw["reference"]["measurement"]
                 files.append({"path": rel, "sha256": _sha256(Path(path)), "used_for": f"#/points/{i}/reference"})
