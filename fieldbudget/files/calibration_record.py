@@ -286,10 +286,27 @@ def _results_of(out: Any) -> dict:
     }, "#/results")
 
 
+def _revision(doc: dict, previous: Any, key: str) -> None:
+    """Revision number, previous digest and what changed (top-level keys of ``key``) against ``previous``."""
+    if previous is None:
+        return
+    if not isinstance(previous, CalibrationRecord) or previous.kind != doc["kind"]:
+        raise InputError("previous", type(previous).__name__, f"a record of kind {doc['kind']!r} (the previous "
+                         "revision) or None", "make_record")
+    old, new = previous.to_dict().get(key) or {}, doc.get(key) or {}
+    changes = []
+    for k in sorted(set(old) | set(new)):
+        if old.get(k) != new.get(k):
+            what = "added" if k not in old else "removed" if k not in new else "changed"
+            changes.append({"change": f"{key.replace('_', ' ')} {what}", "what": k,
+                            "detail": json.dumps(new.get(k, old.get(k)), ensure_ascii=False)[:120]})
+    doc.update({"revision": previous.revision + 1, "previous_digest": previous.digest, "changes": changes})
+
+
 def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None, seed: int | None = None,
                             operator: str = "", remarks: str = "", procedure: Any = None,
                             created_utc: str | None = None, sign: Any = None,
-                            certificate: Mapping | None = None) -> CalibrationRecord:
+                            certificate: Mapping | None = None, previous: Any = None) -> CalibrationRecord:
     """Evaluate a calibration file and return its record (not yet saved).
 
     ``calibration``: a :class:`~fieldbudget.files.calibration_file.CalibrationFile`
@@ -328,6 +345,7 @@ def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None,
         "results": results,
         "certificate": dict(certificate or {}),
     })
+    _revision(doc, previous, "calibration_file")
     return _seal(doc, sign)
 
 
@@ -342,7 +360,8 @@ def _mc_settings(results: Mapping) -> dict:
 
 def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None,
                                operator: str = "", remarks: str = "", procedure: Any = None,
-                               created_utc: str | None = None, sign: Any = None) -> CalibrationRecord:
+                               created_utc: str | None = None, sign: Any = None,
+                               previous: Any = None) -> CalibrationRecord:
     """Evaluate a budget with several outputs and return its record: GUM results with the outputs'
     covariance (JCGM 100:2008 H.2) and, with ``monte_carlo`` trials, a Monte Carlo run (JCGM 101)."""
     from ..engine import evaluate
@@ -368,6 +387,7 @@ def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: in
                              "monte_carlo": None if mc_d is None else {"trials": int(_first(mc_d, "trials")),
                                                                        "seed": int(_first(mc_d, "seed"))}},
                 "results": _plain({"gum": gum.to_dict(), "monte_carlo": mc_d}, "#/results")})
+    _revision(doc, previous, "budget")
     return _seal(doc, sign)
 
 

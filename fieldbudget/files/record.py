@@ -530,7 +530,7 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     from ..engine import evaluate
 
     hooked = _other_kind(budget, monte_carlo=monte_carlo, seed=seed, operator=operator, remarks=remarks,
-                         procedure=procedure, created_utc=created_utc)
+                         procedure=procedure, created_utc=created_utc, previous=previous)
     if hooked is not None:
         return hooked
     for name, value in (("operator", operator), ("remarks", remarks)):

@@ -78,3 +78,30 @@ def test_edited_file_form_fails(rec, tmp_path):
     path.write_text(json.dumps(rec.to_dict(), sort_keys=True) + "\n")
     v = verify_record(path)
     assert [c.name for c in v.failures] == ["file form"]
+
+
+def test_a_new_revision_names_the_previous_one_and_what_changed(rec):
+    d = json.loads(EXAMPLE.read_text(encoding="utf-8"))
+    d["dates"]["issued"] = "2026-11-25"
+    new = make_record(CalibrationFile.from_dict(d, where="x", base_dir=EXAMPLE.parent), monte_carlo=20_000, seed=5,
+                      previous=rec)
+    doc = new.to_dict()
+    assert doc["revision"] == 2 and doc["previous_digest"] == rec.digest
+    assert [c["what"] for c in doc["changes"]] == ["dates"]
+
+
+def test_signed_at_creation_and_checked_by_verify(tmp_path):
+    signing = pytest.importorskip("fieldbudget.files.signing")
+    key = signing.new_key("I. Marchetti (invented)", "approver", tmp_path / "im.key")
+    r = make_record(CalibrationFile.from_file(EXAMPLE), monte_carlo=10_000, seed=1)
+    from fieldbudget.files.calibration_record import sign_calibration_record
+
+    signed = sign_calibration_record(r, key)
+    assert signed.digest == r.digest and len(signed.signatures) == 1
+    path = save_record(signed, tmp_path / "s.json")
+    v = verify_record(path)
+    assert v.passed and any(c.name.startswith("signature I. Marchetti") and c.status == "pass" for c in v.checks)
+    doc = signed.to_dict()
+    doc["signatures"][0]["role"] = "operator"  # the signed details changed: the signature no longer holds
+    path.write_text(serialise(CalibrationRecord(doc)))
+    assert not verify_record(path).passed

@@ -137,3 +137,21 @@ def test_pdf_pages_carry_the_id_and_page_x_of_y(content, tmp_path):
     for i, page in enumerate(pages, start=1):
         assert f"page {i} of {n}" in page
         assert "Certificate LMCL-C-2026-0419" in page
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=200, deadline=None)
+@given(e=st.floats(-1e4, 1e4, allow_nan=False), u=st.floats(1e-3, 1e3, allow_nan=False))
+def test_error_is_rounded_to_the_decimal_place_of_U(e, u):
+    # JCGM 100:2008 7.2.6: U to (at most) two significant digits, the result to the same decimal place
+    from fieldbudget.report.certificate import _round
+
+    e_txt, u_txt, dec = _round(e, u)
+    places = lambda t: len(t.split(".")[1]) if "." in t else 0  # noqa: E731
+    assert places(e_txt) == places(u_txt) == max(dec, 0)
+    digits = u_txt.replace(".", "").lstrip("0")
+    assert len(digits) - max(0, -dec) <= 2  # zeros left of the decimal point beyond its place are not significant
+    assert abs(float(e_txt) - e) <= 0.5 * 10.0 ** -dec * (1 + 1e-9)
