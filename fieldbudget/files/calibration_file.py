@@ -171,13 +171,12 @@ class CalibrationOutcome:
             curve = {"form": self.curve.form, "degree": f.degree, "x0": f.x0, "coefficients": list(f.coefficients),
                      "covariance": [list(r) for r in f.covariance], "chi2": f.chi_square,
                      "birge_ratio": f.birge_ratio}
-        rule = self.file.decision_rule
         conf = [{"point": p.name, "rule": c.decision_rule, "decision": c.decision,
                  "p_c": c.probability_of_conformity, "guard_band_T": c.guard_band,
                  "tolerance_T": [c.tolerance.lower, c.tolerance.upper], "distribution": c.distribution}
                 for p, c in zip(self.calibration.points, self.conformity)]
         return {"points": pts, "correlation": self.calibration.correlation.tolist(), "curve": curve,
-                "conformity": conf if rule is not None or conf else [],
+                "conformity": conf,
                 "propagation_reason": self.calibration.propagation_reason,
                 "warnings": [str(w) for w in self.warnings]}
 
@@ -414,12 +413,15 @@ class CalibrationFile:
                 raise p.fail("reversed_readings_T", "given, but field_reversal is not true")
             ref, _ = self._reference(p, i)
             t = p.num("temperature_C", t_env if t_env is not None else t_ref)
+            u_t = p.num("u_temperature_C", u_env, nonneg=True)
+            if not tc:  # without a temperature coefficient the temperatures have no effect on the error
+                t, u_t = float(t_ref), 0.0
             try:
                 points.append(CalibrationPoint(
                     reference=ref, readings_t=tuple(readings), reversed_readings_t=tuple(reversed_),
                     u_reversal_t=p.num("u_reversal_T", 0.0, nonneg=True),
                     temperature_difference_k=t - float(t_ref),
-                    u_temperature_difference_k=p.num("u_temperature_C", u_env, nonneg=True),
+                    u_temperature_difference_k=u_t,
                     gradient_t_per_m=p.num("gradient_T_per_m", 0.0),
                     u_gradient_t_per_m=p.num("u_gradient_T_per_m", 0.0, nonneg=True),
                     resolution_t=p.num("resolution_T", positive=True) if p.has("resolution_T") else None,

@@ -174,10 +174,11 @@ def certificate_content(record: Any) -> CertificateContent:
         method += f": {meth['description']}"
     conditions = ""
     if env.get("temperature_C") is not None:
-        conditions = f"ambient temperature ({env['temperature_C']:g} ± {float(env.get('u_temperature_C', 0)):g}) °C"
+        conditions = f"ambient temperature {env['temperature_C']:g} °C"
+        if env.get("u_temperature_C"):
+            conditions += f" (standard uncertainty {float(env['u_temperature_C']):g} °C)"
         if env.get("humidity_percent") is not None:
             conditions += f", relative humidity {env['humidity_percent']:g} %"
-        conditions += " (± standard uncertainty)"
 
     rows = []
     for p in summ["points"]:
@@ -263,6 +264,20 @@ def certificate_content(record: Any) -> CertificateContent:
 
 
 # ------------------------------------------------------------------------------------------ the plot
+def _ticks(lo: float, hi: float, n: int = 5) -> list[float]:
+    """Round tick values (steps of 1, 2 or 5 times a power of ten) inside [lo, hi]."""
+    import math
+
+    span = hi - lo
+    if not span > 0:
+        return [lo]
+    raw = span / n
+    mag = 10 ** math.floor(math.log10(raw))
+    step = next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
+    first = math.ceil(lo / step) * step
+    return [round(first + k * step, 12) for k in range(int((hi - first) / step) + 1)]
+
+
 def _plot(summ: Mapping, res: Mapping) -> str:
     """Error (µT) against the reference field (mT) with U bars and the curve; residuals below."""
     pts = summ["points"]
@@ -300,7 +315,7 @@ def _plot(summ: Mapping, res: Mapping) -> str:
     def sy(y: float, y0: float, y1: float, off: float, hh: float) -> float:
         return off + hh * (1 - (y - y0) / (y1 - y0))
 
-    out = [f'<svg xmlns="http://www.w3.org/2000/svg" class="fb-cert-plot" viewBox="0 0 {w} {top + h1 + h2 + 70}" '
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" class="fb-cert-plot" viewBox="0 0 {w} {top + h1 + h2 + 84}" '
            f'width="100%" role="img" aria-label="error against field with expanded uncertainty, fitted curve and '
            f'residuals" font-family="sans-serif" font-size="11">']
     off1, off2 = top, top + h1 + 40
@@ -308,8 +323,7 @@ def _plot(summ: Mapping, res: Mapping) -> str:
     def axes(off: float, hh: float, y0: float, y1: float, label: str) -> None:
         out.append(f'<rect x="{left}" y="{off}" width="{w - left - right}" height="{hh}" fill="none" '
                    'stroke="#444" stroke-width="0.8"/>')
-        for k in range(5):
-            y = y0 + (y1 - y0) * k / 4
+        for y in _ticks(y0, y1):
             yy = sy(y, y0, y1, off, hh)
             out.append(f'<line x1="{left - 4}" x2="{left}" y1="{yy:.1f}" y2="{yy:.1f}" stroke="#444"/>'
                        f'<text x="{left - 6}" y="{yy + 4:.1f}" text-anchor="end">{y:.3g}</text>')
@@ -342,9 +356,9 @@ def _plot(summ: Mapping, res: Mapping) -> str:
         for x, r in zip(xs, resid):
             out.append(f'<rect x="{sx(x) - 3:.1f}" y="{sy(r, r0, r1, off2, h2) - 3:.1f}" width="6" height="6" '
                        'fill="#b35900"/>')
-    for k in range(5):
-        x = xmin + (xmax - xmin) * k / 4
-        out.append(f'<text x="{sx(x):.1f}" y="{off2 + h2 + 16}" text-anchor="middle">{x:.4g}</text>')
+    for x in _ticks(xmin, xmax):
+        out.append(f'<line x1="{sx(x):.1f}" x2="{sx(x):.1f}" y1="{off2 + h2}" y2="{off2 + h2 + 4}" stroke="#444"/>'
+                   f'<text x="{sx(x):.1f}" y="{off2 + h2 + 16}" text-anchor="middle">{x:.4g}</text>')
     out.append(f'<text x="{(left + w - right) / 2:.1f}" y="{off2 + h2 + 34}" text-anchor="middle">'
                'reference field (mT)</text></svg>')
     return "".join(out)
