@@ -116,11 +116,16 @@ class CalibrationRecord:
     document: Mapping = field(repr=False)
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "document", json.loads(json.dumps(self.document)))
+        from .record import _freeze, _thaw
+
+        plain = json.loads(json.dumps(_thaw(self.document), allow_nan=False))
+        object.__setattr__(self, "document", _freeze(plain))  # read-only mappings and tuples
 
     # -- content ----------------------------------------------------------------------------
     def to_dict(self) -> dict:
-        return json.loads(json.dumps(self.document))
+        from .record import _thaw
+
+        return _thaw(self.document)
 
     def content(self) -> dict:
         """The document without ``digest`` and ``signatures`` (what the digest covers)."""
@@ -143,7 +148,7 @@ class CalibrationRecord:
         return list(self.to_dict().get("signatures", []))
 
     def computed_digest(self) -> str:
-        return _content_digest(self.document)
+        return _content_digest(self.to_dict())
 
     def digest_ok(self) -> bool:
         return self.digest == self.computed_digest()

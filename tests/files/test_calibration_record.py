@@ -105,3 +105,13 @@ def test_signed_at_creation_and_checked_by_verify(tmp_path):
     doc["signatures"][0]["role"] = "operator"  # the signed details changed: the signature no longer holds
     path.write_text(serialise(CalibrationRecord(doc)))
     assert not verify_record(path).passed
+
+
+def test_the_record_is_an_immutable_value_with_readable_forms(rec):
+    with pytest.raises(TypeError):
+        rec.document["kind"] = "x"  # type: ignore[index]
+    assert "\n" not in repr(rec) and "LMCL-C-2026-0419" in repr(rec)
+    assert "<table" in rec._repr_html_()
+    d = rec.to_dict()
+    d["kind"] = "changed"
+    assert rec.kind == "fieldbudget calibration record"
