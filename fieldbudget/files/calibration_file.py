@@ -180,6 +180,15 @@ class CalibrationOutcome:
                 "propagation_reason": self.calibration.propagation_reason,
                 "warnings": [str(w) for w in self.warnings]}
 
+    def _repr_html_(self) -> str:
+        from .._display import html_block
+
+        parts = [self.calibration._repr_html_()]
+        if self.curve is not None:
+            parts.append(self.curve._repr_html_())
+        parts += [c._repr_html_() for c in self.conformity]
+        return html_block(f"Calibration {self.file.certificate_id}".strip(), "".join(parts))
+
     def report(self) -> str:
         """Plain-text summary for the command line."""
         lines = [f"calibration {self.file.certificate_id or ''}".rstrip() + f": {self.file.item_text}".rstrip(": "),
@@ -207,6 +216,21 @@ class CalibrationFile:
     content: Mapping = field(repr=False)
     where: str = "calibration"
     base_dir: str = "."
+
+    def __repr__(self) -> str:
+        return (f"<CalibrationFile {self.certificate_id or self.where}: {len(self.content.get('points', []))} "
+                f"points, {self.item_text or 'item not identified'}>")
+
+    def to_dict(self) -> dict:
+        """The file's content (plain JSON types)."""
+        return copy.deepcopy(dict(self.content))
+
+    def _repr_html_(self) -> str:
+        from .._display import html_table
+
+        rows = [("certificate", self.certificate_id), ("item", self.item_text),
+                ("points", str(len(self.content.get("points", []))))]
+        return html_table(("", ""), rows, caption="calibration file")
 
     # -- reading ------------------------------------------------------------------------------
     @classmethod

@@ -101,6 +101,21 @@ class CertificateContent:
     def conformity_stated(self) -> bool:
         return bool(self.conformity)
 
+    def __repr__(self) -> str:
+        state = "complete" if not missing(self) else f"DRAFT, {len(missing(self))} missing"
+        return f"<CertificateContent {self.certificate_id or '(no id)'}: {len(self.results)} points, {state}>"
+
+    def to_dict(self) -> dict:
+        """Everything the certificate prints (without the plot), with its checklist."""
+        from dataclasses import asdict
+
+        d = {k: v for k, v in asdict(self).items() if k != "plot_svg"}
+        d["checklist"] = checklist(self)
+        return d
+
+    def _repr_html_(self) -> str:
+        return render_content(self, "html").decode("utf-8")
+
 
 def _present(c: CertificateContent, key: str) -> bool:
     if key == "item":

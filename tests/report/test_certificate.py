@@ -155,3 +155,9 @@ def test_error_is_rounded_to_the_decimal_place_of_U(e, u):
     digits = u_txt.replace(".", "").lstrip("0")
     assert len(digits) - max(0, -dec) <= 2  # zeros left of the decimal point beyond its place are not significant
     assert abs(float(e_txt) - e) <= 0.5 * 10.0 ** -dec * (1 + 1e-9)
+
+
+def test_content_is_a_readable_value(content):
+    assert repr(content) == "<CertificateContent LMCL-C-2026-0419: 5 points, complete>"
+    d = json.loads(json.dumps(content.to_dict()))
+    assert d["certificate_id"] == "LMCL-C-2026-0419" and all(i["present"] for i in d["checklist"])
