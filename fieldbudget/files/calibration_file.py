@@ -196,8 +196,10 @@ class CalibrationOutcome:
                  f"{'point':8} {'reference (T)':>15} {'indication (T)':>15} {'error (T)':>12} {'U (T)':>9} "
                  f"{'k':>5}  route"]
         for p in self.calibration.points:
+            lo, hi = p.coverage_interval
+            iv = f", interval [{lo:.3e}, {hi:.3e}]" if p.propagation == "monte carlo" else ""
             lines.append(f"{p.name:8} {p.reference:15.9f} {p.indication:15.7f} {p.error:12.3e} "
-                         f"{p.expanded_uncertainty:9.2e} {p.coverage_factor:5.2f}  {p.propagation}")
+                         f"{p.expanded_uncertainty:9.2e} {p.coverage_factor:5.2f}  {p.propagation}{iv}")
         if self.curve is not None:
             f = self.curve.fit
             co = ", ".join(f"a{j} = {c:.6g}" for j, c in enumerate(f.coefficients))
