@@ -214,9 +214,10 @@ def certificate_content(record: Any) -> CertificateContent:
     pcov = {p["coverage_probability"] for p in summ["points"]}
     p_txt = " / ".join(f"{100 * x:.4g} %" for x in sorted(pcov))
     unc = (f"The expanded uncertainty U is the standard uncertainty of the error multiplied by the coverage "
-           f"factor k given for each point; the interval (error ± U) is expected to contain the error of the "
-           f"instrument with a coverage probability of {p_txt}. The uncertainty was evaluated per JCGM 100:2008 "
-           "(GUM) and, where marked, by Monte Carlo (JCGM 101:2008).")
+           f"factor k given for each point, such that the coverage interval (error ± U, or for a Monte Carlo point "
+           f"the interval given beside it) contains the error of the instrument with a coverage probability of "
+           f"{p_txt}. The uncertainty was evaluated per JCGM 100:2008 (GUM) and, where marked, by Monte Carlo "
+           "(JCGM 101:2008).")
     any_mc = any(p["propagation"] == "monte carlo" for p in summ["points"])
     interval = ""
     if any_mc:
