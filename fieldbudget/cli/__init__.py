@@ -17,7 +17,8 @@ from ..errors import FieldbudgetError
 __all__ = ["main", "COMMANDS"]
 
 # Order is the order of `fieldbudget --help`.
-COMMANDS = ("evaluate", "larmor", "nmr", "record", "verify", "sign", "key", "compare", "report", "demo")
+COMMANDS = ("evaluate", "larmor", "nmr", "calibrate", "record", "verify", "sign", "key", "compare", "report",
+            "certificate", "demo")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -59,12 +59,22 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("-o", args.output, "a new file (records never replace a file; the next revision of "
                          "record R is written with -o R --previous R --reason TEXT)")
     key = load_key(args, args.sign) if args.sign else None
-    budget = load_budget(args.file)
+    from ..files.budget_file import read_json  # noqa: I001
+    from ..files.calibration_file import FORMAT, load_calibration
+
+    doc = read_json(args.file)
+    if isinstance(doc, dict) and doc.get("format") == FORMAT:
+        budget = load_calibration(args.file)  # a calibration file: recorded with its points, curve and conformity
+    else:
+        budget = load_budget(args.file)
     previous = load_record(args.previous) if args.previous else None
     rec = make_record(budget, monte_carlo=args.monte_carlo, seed=args.seed, operator=args.operator,
                       remarks=args.remarks, previous=previous, reason=args.reason, sign=key)
     path = save_record(rec, args.output)
     print(f"{path}: revision {rec.revision}, {rec.statement.split('. ')[0]}")
+    if not hasattr(rec, "monte_carlo"):  # a calibration or several-output record
+        print(f"SHA-256 {rec.digest}")
+        return 0
     if rec.monte_carlo:
         print(f"Monte Carlo: {rec.monte_carlo['trials']} trials, seed {rec.monte_carlo['seed']}")
     for c in rec.changes:

@@ -553,6 +553,15 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     """
     from ..engine import evaluate
 
+    hooked = _other_kind(budget, monte_carlo=monte_carlo, seed=seed, operator=operator, remarks=remarks,
+                         procedure=procedure, created_utc=created_utc, previous=previous)
+    if hooked is not None:
+        if sign is not None:
+            if not isinstance(hooked, Record):
+                raise InputError("sign", str(sign), "left out for a calibration record (its signing is not "
+                                 "supported yet)", "make_record")
+            hooked = sign_record(hooked, sign, passphrase=passphrase)
+        return hooked
     for name, value in (("operator", operator), ("remarks", remarks), ("reason", reason)):
         if not isinstance(value, str):
             raise InputError(name, value, "text", "make_record")
@@ -617,6 +626,22 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     return sign_record(rec, key) if key is not None else rec
 
 
+def _other_kind(budget: Any, **kw: Any) -> Any:
+    """Calibration files and several-output budgets are recorded by :mod:`.calibration_record`."""
+    from . import calibration_record as cr
+
+    if cr.is_calibration_input(budget):
+        return cr.make_calibration_record(budget, **kw)
+    from ..engine import Budget
+
+    b = budget
+    if isinstance(budget, Mapping) and isinstance(budget.get("model"), Mapping):
+        b = _as_budget(budget)
+    if isinstance(b, Budget) and len(b.model.outputs) > 1:
+        return cr.make_several_output_record(b, **kw)
+    return None
+
+
 def _with_digest(rec: Record) -> Record:
     from dataclasses import replace
 
@@ -679,6 +704,10 @@ def save_record(record: Record, path: str | Path) -> Path:
     Refuses a record whose digest does not match its content, so a changed
     record is never archived under its old digest.
     """
+    from .calibration_record import CalibrationRecord, save_calibration_record
+
+    if isinstance(record, CalibrationRecord):
+        return save_calibration_record(record, path)
     if not isinstance(record, Record):
         raise InputError("record", type(record).__name__, "a Record", "save_record")
     if not record.digest_ok():
@@ -743,6 +772,10 @@ def load_record(path: str | Path, *, check_digest: bool = True) -> Record:
         which :func:`verify_record` uses to report the mismatch as a failed check).
     """
     where = str(path)
+    from . import calibration_record as cr
+
+    if cr.record_kind(path) in cr.KINDS:
+        return cr.load_calibration_record(path, check_digest=check_digest)
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError:
@@ -1005,6 +1038,11 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
     ones, else within this release's own tolerance); the validation block
     (d_low, d_high, delta, validated, advice).
     """
+    from . import calibration_record as cr
+
+    if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
+                                                    cr.record_kind(record) in cr.KINDS):
+        return cr.verify_calibration_record(record)
     checks: list[Check] = []
     where = ""
     if isinstance(record, (str, Path)):

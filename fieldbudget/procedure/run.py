@@ -517,6 +517,17 @@ class ProcedureRun:
         verdict = {True: "every acceptance limit met", False: "an acceptance limit NOT met",
                    None: "acceptance incomplete"}[self.check().accepted if self._current else None]
         text = f"{remarks} " if remarks else ""
+        if self.procedure.kind == "teslameter-calibration":
+            # a calibration record: points, covariance, curve, conformity and the certificate details
+            from ..files.calibration_file import CalibrationFile
+
+            base = Path(self.procedure.path).parent if self.procedure.path else Path(".")
+            cal = CalibrationFile.from_dict(
+                self.measurement().calibration_file(self.record_dict().get("certificate")),
+                where=self._values_where, base_dir=base)
+            return make_record(cal, monte_carlo=monte_carlo if isinstance(monte_carlo, int) else None, seed=seed,
+                               procedure=self.procedure, operator=str(self.record_dict().get("operator", "")),
+                               remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
         return make_record(budget, monte_carlo=monte_carlo, seed=seed, procedure=self.procedure,
                            operator=str(self.record_dict().get("operator", "")),
                            remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.",

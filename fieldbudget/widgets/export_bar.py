@@ -28,11 +28,15 @@ def report_writers() -> tuple[str, ...]:
     return tuple(FORMATS)
 
 
-def _record(budget: Any, job: Any, sign: Any = None) -> Any:
+def _record(budget: Any, job: Any, draft: Any = None, sign: Any = None) -> Any:
     from ..files.record import make_record
 
     mc = job.result if job is not None and job.state == "done" and job.budget is budget else None
-    return make_record(budget, monte_carlo=mc, seed=mc.seed if mc is not None else None, sign=sign)
+    seed = mc.seed if mc is not None else None
+    maker = getattr(draft, "make_record", None)
+    if callable(maker):  # a procedure run names itself in its record (a calibration: the calibration record)
+        return maker(monte_carlo=mc, seed=seed, sign=sign) if sign is not None else maker(monte_carlo=mc, seed=seed)
+    return make_record(budget, monte_carlo=mc, seed=seed, sign=sign)
 
 
 class ExportBar(w.VBox):
@@ -124,7 +128,7 @@ class ExportBar(w.VBox):
         fmt = self.report_format.value
         suffix = next(s for s, f in SUFFIXES.items() if f == fmt)
         target = self._allowed(self._target(suffix), "report")
-        self._done(write_report(_record(self.draft.budget, self.job, self.sign), target, to=fmt))
+        self._done(write_report(_record(self.draft.budget, self.job, self.draft, self.sign), target, to=fmt))
 
     @guarded
     def _save_record(self, _button=None) -> None:
@@ -140,7 +144,7 @@ class ExportBar(w.VBox):
             self.status.value = status_html(f"{target} exists already: a record is never replaced; "
                                             "give another name")
             return
-        self._done(save_record(_record(self.draft.budget, self.job, self.sign), target))
+        self._done(save_record(_record(self.draft.budget, self.job, self.draft, self.sign), target))
 
     def __repr__(self) -> str:
         return f"<ExportBar {self.path.value!r}, reports: {', '.join(self.writers) or 'none'}>"

@@ -283,13 +283,18 @@ def test_codata_edition_is_found_from_the_values_when_the_metadata_has_none(edit
     assert make_record(b, created_utc=STAMP).codata_edition is None
 
 
-def test_a_budget_with_several_measurands_is_refused_with_a_clear_message():
+def test_a_budget_with_several_measurands_gets_a_several_output_record(tmp_path):
     b = mixed_budget()
     del b["measurand"]
     b["model"] = {"K": "a + b", "L": "c * d"}
     b["measurands"] = {"K": {"unit": "1"}, "L": {"unit": "1"}}
-    with pytest.raises(InputError, match="a budget with one measurand"):
-        make_record(b)
+    b["correlations"] = []
+    rec = make_record(b, monte_carlo=20_000, seed=4, created_utc=STAMP)
+    assert rec.kind == "fieldbudget several-output record"
+    assert rec.results["gum"]["correlation"] and rec.results["monte_carlo"]
+    path = save_record(rec, tmp_path / "kl.record.json")
+    assert load_record(path).digest == rec.digest
+    assert verify_record(path).passed
 
 
 # -- canonical serialisation: properties ---------------------------------------------------------
