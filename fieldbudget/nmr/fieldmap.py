@@ -76,7 +76,8 @@ from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
 from ._csvdata import read_table
 
-__all__ = ["BASES", "FLAG_PROBABILITY", "FieldMap", "FieldMapFit", "Homogeneity", "HarmonicTerm", "fit_map",
+__all__ = ["BASES", "FLAG_PROBABILITY", "FieldMap", "FieldMapFit", "Homogeneity", "HarmonicTerm", "MapTerms",
+           "calibration_offset", "fit_map", "sample_terms",
            "harmonic_terms", "read_map"]
 
 BASES = ("cartesian", "cylindrical")
@@ -302,7 +303,8 @@ def read_map(path: str | Path, *, nucleus: str | None = None, codata: int | None
     The reference ratio's own uncertainty is common to every point; it scales
     the whole map and is left to the budget that uses the map.
     """
-    from .nuclei import DEFAULT_NUCLEUS, nucleus as _nucleus
+    from .nuclei import DEFAULT_NUCLEUS
+    from .nuclei import nucleus as _nucleus
 
     table = read_table(path, needed=(("x_m",), ("y_m",), ("z_m",), ("f_Hz", "B_T")), optional=("u_f_Hz", "u_B_T"),
                        min_rows=2, what="field map")
@@ -679,3 +681,128 @@ def _homogeneity(fit: FieldMapFit, region: dict, b_centre: float, where: str) ->
     var = max(sq - mean * mean, 0.0)
     rms = math.sqrt(var) / abs(b_centre) * 1e6 if b_centre else math.inf
     return Homogeneity(shape=shape, size_m=size, peak_to_peak_ppm=p2p, rms_ppm=rms, centre_m=fit.about_m)
+
+
+# --- maps feeding budgets ------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MapTerms:
+    """Inputs, their correlations and the subtracted model term that a field map gives an NMR budget.
+
+    ``expression`` is what the budget subtracts from the sample's field to
+    get the field at the reference point, e.g.
+    ``"(G_x * x_off + G_y * y_off + G_z * z_off) + d_vol"``; ``correlations``
+    are ``(symbol_a, symbol_b, r)`` from the coefficients' covariance.
+    """
+
+    inputs: tuple
+    correlations: tuple
+    expression: str
+    second_order: bool = False
+
+
+def _source(fit: FieldMapFit) -> tuple[str, dict]:
+    name = Path(fit.path).name if fit.path else "field map"
+    return (f"field map {name} ({fit.digest}), order-{fit.order} solid-harmonic fit",
+            {"report": f"{name} {fit.digest}".strip()})
+
+
+def sample_terms(fit: FieldMapFit, sample_position_m, *, reference_point_m=(0.0, 0.0, 0.0),
+                 u_sample_position_m=(0.0, 0.0, 0.0), sample: dict | None = None) -> MapTerms:
+    """The gradient and sample-volume terms of an NMR budget taken from a fitted map.
+
+    With s the sample centre and r the reference point (map coordinates, m):
+
+    * ``G_x, G_y, G_z``: the fitted gradient at the midpoint (s + r)/2, so
+      that G . (s - r) = B(s) - B(r) exactly for a field of up to second
+      order (the mean-value theorem for a quadratic along the segment);
+    * ``x_off, y_off, z_off`` = s - r with ``u_sample_position_m``;
+    * ``d_vol`` = <B> over the sample volume - B(s), from the expansion
+      (``sample``: ``{"shape": "sphere"|"cylinder", "diameter_m", "length_m",
+      "axis"}``; 0 by the mean-value theorem for a sphere, but its u is kept);
+      left out without ``sample``.
+
+    The budget's model then reads ``B0 = B_NMR - (G . offset) - d_vol``.  The
+    covariance of the G's and d_vol comes from the coefficients' covariance
+    (they are linear in the coefficients).  The reference ratio that
+    converted an f_Hz map scales the whole map by 1 + 4e-9 at most (CODATA
+    2022), which changes these differences negligibly and is not carried.
+    """
+    from ..engine import InputQuantity, Normal
+
+    where = fit.path or "field map"
+    s = _point(sample_position_m, "sample_position_m", where)
+    r = _point(reference_point_m, "reference_point_m", where)
+    us = _point(u_sample_position_m, "u_sample_position_m", where)
+    if min(us) < 0:
+        raise InputError("u_sample_position_m", list(us), "three standard uncertainties >= 0 in m", where)
+    mid = tuple((a + b) / 2 for a, b in zip(s, r))
+    text, prov = _source(fit)
+    rows = [fit.weights(d, mid) for d in ("dx", "dy", "dz")]
+    names = ["G_x", "G_y", "G_z"]
+    if sample is not None:
+        region = dict(sample)
+        rows.append(fit.weights("average", s, **region) - fit.weights("value", s))
+        names.append("d_vol")
+    vals, cov = fit.combined(rows)
+    sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))
+    inputs, terms, keep = [], [], []
+    second = False
+    for i, ax in enumerate("xyz"):
+        inputs.append(InputQuantity(
+            f"G_{ax}", float(vals[i]), Normal(u=float(sd[i])), unit="T/m", role="lab_characterisation",
+            provenance=prov, source=f"{text}: dB/d{ax} at the midpoint of sample and reference point",
+            description=f"field gradient dB/d{ax} between the reference point and the sample"))
+        inputs.append(InputQuantity(
+            f"{ax}_off", s[i] - r[i], Normal(u=us[i]), unit="m", role="measured", source="probe positioning",
+            description=f"{ax} of the sample centre minus the reference point"))
+        terms.append(f"G_{ax} * {ax}_off")
+        keep.append(i)
+        second = second or (sd[i] > 0 and us[i] > 0)
+    expr = f"({' + '.join(terms)})"
+    if sample is not None:
+        shape = region.get("shape", "sphere")
+        dims = f"{region['diameter_m'] * 1e3:g} mm" + (
+            f" x {region['length_m'] * 1e3:g} mm along {region.get('axis', 'z')}" if shape == "cylinder" else "")
+        inputs.append(InputQuantity(
+            "d_vol", float(vals[3]), Normal(u=float(sd[3])), unit="T", role="lab_characterisation", provenance=prov,
+            source=f"{text}: mean over the {shape} {dims} minus the value at its centre (exact integration)",
+            description="field averaged over the sample volume minus the field at the sample centre"))
+        expr += " + d_vol"
+        keep.append(3)
+    corr = []
+    for a in range(len(keep)):
+        for b in range(a + 1, len(keep)):
+            i, j = keep[a], keep[b]
+            if sd[i] > 0 and sd[j] > 0:
+                rho = float(cov[i, j] / (sd[i] * sd[j]))
+                if abs(rho) > 1e-12:
+                    corr.append((names[i], names[j], max(-1.0, min(1.0, rho))))
+    return MapTerms(inputs=tuple(inputs), correlations=tuple(corr), expression=expr, second_order=second)
+
+
+def calibration_offset(fit: FieldMapFit, nmr_position_m, hall_position_m, *, nmr_sample: dict | None = None,
+                       hall_volume: dict | None = None) -> dict:
+    """Keyword arguments for a calibration point with the Hall sensor beside the NMR sample, from a map.
+
+    Returns ``{"gradient_t_per_m", "u_gradient_t_per_m", "position_offset_m"}``
+    for :class:`~fieldbudget.calibration.CalibrationPoint` and
+    :class:`~fieldbudget.calibration.CalibrationSet`: the offset d = |h - n|
+    (Hall minus NMR position) and the effective gradient
+    G = (<B>_Hall - <B>_NMR)/d, so that G d is the field difference between
+    the Hall sensor's active volume and the NMR sample's volume (each average
+    from the expansion; a point when its region is None).  The u of G is that
+    of the difference from the coefficients' covariance, divided by d.
+    """
+    where = fit.path or "field map"
+    n = np.asarray(_point(nmr_position_m, "nmr_position_m", where))
+    h = np.asarray(_point(hall_position_m, "hall_position_m", where))
+    d = float(np.linalg.norm(h - n))
+    if d == 0:
+        raise InputError("hall_position_m", list(h), "a position other than the NMR sample's", where)
+    w_h = fit.weights("average", h, **hall_volume) if hall_volume else fit.weights("value", h)
+    w_n = fit.weights("average", n, **nmr_sample) if nmr_sample else fit.weights("value", n)
+    v, cov = fit.combined([w_h - w_n])
+    return {"gradient_t_per_m": float(v[0]) / d, "u_gradient_t_per_m": math.sqrt(max(float(cov[0, 0]), 0.0)) / d,
+            "position_offset_m": d}

@@ -64,7 +64,7 @@ from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
 from ._csvdata import read_table
 
-__all__ = ["CHI2_FLAG_SIGMAS", "KINDS", "LineFit", "Trace", "fit_trace", "read_trace"]
+__all__ = ["CHI2_FLAG_SIGMAS", "KINDS", "LineFit", "Trace", "fit_trace", "line_centre_input", "read_trace"]
 
 KINDS = ("absorption", "dispersion", "fid")
 
@@ -584,3 +584,32 @@ def _fit_fid(trace: Trace, reference_hz: float) -> LineFit:
                    covariance=tuple(tuple(float(v) for v in row) for row in cov), path=trace.path,
                    digest=trace.digest, warnings=tuple(warnings), x=arrays[0], signal=arrays[1], fitted=arrays[2],
                    residuals=arrays[3])
+
+
+# --- the budget input -------------------------------------------------------------------
+
+
+def line_centre_input(fit: LineFit, *, stated_u_hz: float | None = None, source: str = "",
+                      symbol: str = "d_line"):
+    """The line-centre input of an NMR budget from a fitted trace: estimate 0, u from the fit.
+
+    ``stated_u_hz`` is a stated part that the trace cannot show (a lock
+    servo's offset); it is added in quadrature.  The degrees of freedom are
+    those of the fit (m - p) when no stated part is added.  The source names
+    the trace and its SHA-256 digest, so the record says which data it came
+    from.
+    """
+    from ..engine import InputQuantity, Normal
+
+    u = fit.u_centre_hz
+    text = source or fit.source_text()
+    dof = float(fit.dof)
+    if stated_u_hz:
+        u = math.hypot(u, float(stated_u_hz))
+        text += f"; with a stated part {float(stated_u_hz):g} Hz"
+        dof = math.inf
+    prov = {"report": f"{Path(fit.path).name if fit.path else 'trace'} {fit.digest}".strip()}
+    return InputQuantity(symbol, 0.0, Normal(u=u, dof=dof), unit="Hz", source=text,
+                         description="correction for locating the line centre (fitted from the recorded trace)",
+                         role="measured" if not stated_u_hz else "lab_characterisation",
+                         provenance=prov if stated_u_hz else {})
