@@ -692,7 +692,7 @@ class MapTerms:
 
     ``expression`` is what the budget subtracts from the sample's field to
     get the field at the reference point, e.g.
-    ``"(G_x * x_off + G_y * y_off + G_z * z_off) + d_vol"``; ``correlations``
+    ``"(G_x * x_off + G_y * y_off + G_z * z_off + d_vol)"``; ``correlations``
     are ``(symbol_a, symbol_b, r)`` from the coefficients' covariance.
     """
 
@@ -703,9 +703,10 @@ class MapTerms:
 
 
 def _source(fit: FieldMapFit) -> tuple[str, dict]:
-    name = Path(fit.path).name if fit.path else "field map"
-    return (f"field map {name} ({fit.digest}), order-{fit.order} solid-harmonic fit",
-            {"report": f"{name} {fit.digest}".strip()})
+    name = Path(fit.path).name if fit.path else "(not from a file)"
+    digest = f" ({fit.digest})" if fit.digest else ""
+    return (f"field map {name}{digest}, order-{fit.order} solid-harmonic fit",
+            {"report": f"{name}{digest}"})
 
 
 def sample_terms(fit: FieldMapFit, sample_position_m, *, reference_point_m=(0.0, 0.0, 0.0),
@@ -760,7 +761,6 @@ def sample_terms(fit: FieldMapFit, sample_position_m, *, reference_point_m=(0.0,
         terms.append(f"G_{ax} * {ax}_off")
         keep.append(i)
         second = second or (sd[i] > 0 and us[i] > 0)
-    expr = f"({' + '.join(terms)})"
     if sample is not None:
         shape = region.get("shape", "sphere")
         dims = f"{region['diameter_m'] * 1e3:g} mm" + (
@@ -769,8 +769,9 @@ def sample_terms(fit: FieldMapFit, sample_position_m, *, reference_point_m=(0.0,
             "d_vol", float(vals[3]), Normal(u=float(sd[3])), unit="T", role="lab_characterisation", provenance=prov,
             source=f"{text}: mean over the {shape} {dims} minus the value at its centre (exact integration)",
             description="field averaged over the sample volume minus the field at the sample centre"))
-        expr += " + d_vol"
+        terms.append("d_vol")
         keep.append(3)
+    expr = f"({' + '.join(terms)})"
     corr = []
     for a in range(len(keep)):
         for b in range(a + 1, len(keep)):
