@@ -11,7 +11,9 @@ from __future__ import annotations
 import argparse
 import json
 
+from .._io import allow_outside_files
 from ..files.budget_file import save_budget
+from ..files.guard import check_output
 from ..nmr.measurement import NMRMeasurement
 
 __all__ = ["add_parser", "run"]
@@ -25,14 +27,21 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p.add_argument("file", help="NMR measurement description file (JSON)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
     p.add_argument("--budget-out", metavar="BUDGET.json", default=None,
-                   help="also write the budget file built from the measurement")
+                   help="also write the budget file built from the measurement (never over a record or the "
+                        "measurement file; over another existing file only with --force)")
+    p.add_argument("--force", action="store_true", help="let --budget-out replace an existing file (never a record)")
+    p.add_argument("--allow-outside-files", action="store_true",
+                   help="let the measurement file name CSV files outside its own folder")
     return p
 
 
 def run(args: argparse.Namespace) -> int:
-    measurement = NMRMeasurement.from_file(args.file)
+    if args.budget_out is not None:
+        check_output(args.budget_out, inputs=(("measurement file", args.file),), force=args.force, what="budget")
+    with allow_outside_files(args.allow_outside_files):
+        measurement = NMRMeasurement.from_file(args.file)
     result = measurement.evaluate()
-    if args.budget_out:
+    if args.budget_out is not None:
         save_budget(result.budget, args.budget_out)
     if args.json:
         print(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))

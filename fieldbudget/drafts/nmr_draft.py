@@ -261,7 +261,9 @@ class NMRDraft(Observable):
     @classmethod
     def from_file(cls, path: str | Path) -> NMRDraft:
         p = Path(path)
-        return cls(json.loads(p.read_text(encoding="utf-8")), base_dir=p.parent)
+        from .._io import read_json_file
+
+        return cls(read_json_file(p, what="measurement file"), base_dir=p.parent)
 
     # -- listeners ---------------------------------------------------------------------
     def _changed(self) -> None:

@@ -64,6 +64,9 @@ class Measurand:
     def __post_init__(self) -> None:
         if not isinstance(self.symbol, str) or not self.symbol.isidentifier():
             raise InputError("measurand symbol", self.symbol, "a name made of letters, digits and _")
+        for name in ("unit", "description"):
+            if not isinstance(getattr(self, name), str):
+                raise InputError(f"measurand {name}", getattr(self, name), "a text string")
 
     def to_dict(self) -> dict:
         d = {"symbol": self.symbol, "unit": self.unit}
@@ -164,6 +167,8 @@ class Budget:
         object.__setattr__(self, "inputs", inputs)
         object.__setattr__(self, "measurands", measurands)
         object.__setattr__(self, "measurand", measurands[0] if len(measurands) == 1 else None)
+        if not isinstance(self.title, str):
+            raise InputError("title", self.title, "a text string")
         # coverage
         p = self.coverage_probability
         if isinstance(p, bool) or not isinstance(p, (int, float)) or not (0 < p < 1):
@@ -338,7 +343,8 @@ class Budget:
             try:
                 inputs.append(InputQuantity.from_dict(sym, spec, where=f"input {sym!r}"))
             except InputError as err:
-                raise BudgetFileError(where, f"#/inputs/{sym}/{err.field}",
+                at = f"#/inputs/{sym}" if err.field == sym else f"#/inputs/{sym}/{err.field}"
+                raise BudgetFileError(where, at,
                                       f"{err.field} must be {err.allowed} (got {err.value!r})") from None
         raw_model = d["model"]
         try:

@@ -35,6 +35,7 @@ the sampling and the arithmetic.
 from __future__ import annotations
 
 import math
+import os
 from collections.abc import Callable
 from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
 from dataclasses import dataclass, field
@@ -463,11 +464,30 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
                                                  workers, progress, should_stop)
     else:
         m = _positive_int("trials", trials)
+        limit = max_trials_in_memory(len(plan.outputs))
+        if m > limit:
+            raise InputError("trials", m, f"at most {limit} on this machine (every trial's output is kept, "
+                             f"{8 * len(plan.outputs)} bytes each, to find the coverage intervals; half the memory "
+                             "is the bound)", _WHERE)
         values = np.empty((len(plan.outputs), m), dtype=np.float64)
         hows = _run_blocks(plan, seed, m, 0, -(-m // BLOCK_SIZE), chunk_blocks, workers, values,
                            progress, should_stop, m, 0)
         stabilised = None
     return _summarise(plan, values, p, seed, hows, adaptive, stabilised)
+
+
+def max_trials_in_memory(n_outputs: int = 1) -> int:
+    """Most trials one run may keep: half the machine's memory over 3 x 8 bytes per output and trial.
+
+    The outputs of every trial are kept (the coverage intervals need them all,
+    JCGM 101 7.7) and sorting needs about as much again; the inputs go in
+    fixed blocks and do not grow with M.
+    """
+    try:
+        total = os.sysconf("SC_PHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
+    except (ValueError, OSError, AttributeError):  # pragma: no cover - not POSIX
+        total = 8 * 1024**3
+    return max(BLOCK_SIZE, int(total // 2 // (24 * max(1, n_outputs))))
 
 
 def _positive_int(name: str, value: object) -> int:

@@ -501,11 +501,13 @@ class ProcedureRun:
         d = self.measurement_dict()
         return atomic_write_text(path, json.dumps(d, indent=2, ensure_ascii=False) + "\n")
 
-    def make_record(self, *, monte_carlo: Any = None, seed: int | None = None, remarks: str = "") -> Any:
+    def make_record(self, *, monte_carlo: Any = None, seed: int | None = None, remarks: str = "",
+                    sign: Any = None, passphrase: str | None = None) -> Any:
         """A record of the last good budget naming this procedure, its operator and the acceptance verdict.
 
         ``monte_carlo`` and ``seed`` are passed to
-        :func:`fieldbudget.files.record.make_record` (a number of trials, or None).
+        :func:`fieldbudget.files.record.make_record` (a number of trials, or None);
+        ``sign`` (a signing key or key file, with ``passphrase``) signs it.
         """
         from ..files.record import make_record
 
@@ -517,7 +519,8 @@ class ProcedureRun:
         text = f"{remarks} " if remarks else ""
         return make_record(budget, monte_carlo=monte_carlo, seed=seed, procedure=self.procedure,
                            operator=str(self.record_dict().get("operator", "")),
-                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
+                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.",
+                           sign=sign, passphrase=passphrase)
 
     # ------------------------------------------------------------ acceptance
     def check(self, result: Any = _LATEST) -> AcceptanceReport:

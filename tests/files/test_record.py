@@ -50,7 +50,8 @@ def test_round_trip_save_load_verify(tmp_path, mc_record):
     result = verify_record(path)
     assert result.passed, result.report()
     names = [c.name for c in result.checks]
-    assert names[:6] == ["schema", "file form", "digest", "budget", "GUM", "statement"]
+    assert names[:6] == ["schema", "file form", "digest", "signatures", "budget", "GUM"]
+    assert "validation" in names and "UNSIGNED" in result.report()
     mc = next(c for c in result.checks if c.name == "Monte Carlo")
     assert mc.status == "pass" and "bit-identical" in mc.detail
     # verifying a Record object (not a file) runs the same content checks
@@ -59,7 +60,7 @@ def test_round_trip_save_load_verify(tmp_path, mc_record):
 
 def test_record_holds_what_the_issue_lists(mc_record):
     d = mc_record.to_dict()
-    assert d["schema_version"] == SCHEMA_VERSION == "1.0"
+    assert d["schema_version"] == SCHEMA_VERSION == "1.1"
     assert d["budget"] == Budget.from_dict(nmr_budget()).to_dict()
     assert set(d["software"]) >= {"fieldbudget", "numpy", "scipy", "uncertainties", "python"}
     assert d["codata_edition"] == 2022
@@ -112,7 +113,7 @@ def test_revision_and_change_log():
     b["model"] = "f / (gp * 1e6)"
     b["inputs"]["d_probe"] = {"value": 0.0, "u": 1.5e-8, "unit": "T", "source": "probe report BFSL-P-0107"}
     b["model"] = "f / (gp * 1e6) + d_probe"
-    second = make_record(b, previous=first, created_utc=STAMP)
+    second = make_record(b, previous=first, created_utc=STAMP, reason="new counter readings")
     assert second.revision == 2 and second.previous_digest == first.digest
     kinds = {(c["change"], c["what"]) for c in second.changes}
     assert ("input added", "d_probe") in kinds
@@ -121,8 +122,10 @@ def test_revision_and_change_log():
     assert ("model changed", "model") in kinds
     f_change = next(c for c in second.changes if c["what"] == "f")
     assert "value 63871224.32 -> 63871230.0" in f_change["detail"]
-    third = make_record(b, previous=second, created_utc=STAMP)
-    assert third.revision == 3 and third.changes == ()
+    third = make_record(b, previous=second, created_utc=STAMP, reason="seed changed")
+    assert third.revision == 3
+    assert [c["change"] for c in third.changes] == ["revision reason"]  # the budget itself did not change
+    assert third.changes[0]["detail"] == "seed changed"
 
 
 def test_budget_changes_of_identical_budgets_is_empty():
@@ -163,13 +166,12 @@ def test_verify_catches_a_gum_result_off_in_the_last_digit(mc_record):
     assert "u: recorded" in result.failures[0].detail
 
 
-def test_a_reworded_statement_is_reported_but_does_not_fail(mc_record):
+def test_a_reworded_statement_fails(mc_record):
+    # verify trusts nothing it can recompute: the statement is recomputed too
     gum = dict(mc_record.gum)
     gum["statement"] = gum["statement"].replace("The number after", "The figure after")
     result = verify_record(_redigest(mc_record, gum=gum))
-    assert result.passed
-    check = next(c for c in result.checks if c.name == "statement")
-    assert check.status == "info" and "The figure after" in check.detail
+    assert [c.name for c in result.failures] == ["GUM"] and "statement: recorded" in result.failures[0].detail
 
 
 def test_verify_catches_a_changed_rounded_result(mc_record):
@@ -187,18 +189,18 @@ def test_verify_catches_monte_carlo_not_bit_identical(mc_record):
     assert "not bit-identical" in result.failures[0].detail
 
 
-def test_other_numpy_version_is_compared_within_the_stated_tolerance(mc_record):
-    # Another numpy version may give another stream: then the stated tolerance applies.
+def test_other_numpy_version_is_compared_within_verifys_own_tolerance(mc_record):
+    # Another numpy version may give another stream: then verify's own tolerance applies.
     mc = dict(mc_record.monte_carlo)
     mc["numpy_version"] = "0.0-elsewhere"
     tol = mc_record.monte_carlo_settings["tolerance"]
     mc["value"] = mc["value"] + 0.5 * tol["value"]
     ok = verify_record(_redigest(mc_record, monte_carlo=mc))
     check = next(c for c in ok.checks if c.name == "Monte Carlo")
-    assert check.status == "pass" and "within the stated tolerance" in check.detail
+    assert check.status == "pass" and "within this release's tolerance" in check.detail
     mc["value"] = mc_record.monte_carlo["value"] + 3.0 * tol["value"]
     bad = verify_record(_redigest(mc_record, monte_carlo=mc))
-    assert [c.name for c in bad.failures] == ["Monte Carlo"] and "value differs" in bad.failures[0].detail
+    assert [c.name for c in bad.failures] == ["Monte Carlo"] and "value recorded" in bad.failures[0].detail
 
 
 def test_monte_carlo_tolerance_formula():
