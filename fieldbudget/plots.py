@@ -14,7 +14,7 @@ from typing import Any
 
 from matplotlib.figure import Figure
 
-__all__ = ["img_html", "mc_histogram", "share_chart", "to_png", "to_svg"]
+__all__ = ["field_map_figure", "img_html", "line_fit_figure", "mc_histogram", "share_chart", "to_png", "to_svg"]
 
 _COLOURS = {"mc": "#4a7ab5", "symmetric": "#c0392b", "shortest": "#7d3c98", "gum": "#1e8449"}
 
@@ -99,3 +99,92 @@ def img_html(fig: Figure, css_class: str = "fb-figure") -> str:
     """An ``<img>`` tag with the figure as an inline PNG."""
     data = base64.b64encode(to_png(fig)).decode("ascii")
     return f'<img class="{css_class}" src="data:image/png;base64,{data}" alt="chart"/>'
+
+
+# --- raw data: line fits and field maps -------------------------------------------------------
+# Self-contained figure builders (each returns a Figure), so any display wrapper applies to them.
+
+_FIT = {"data": "#8aa9bf", "fit": "#b34a2a", "imag": "#7d9a5b", "resid": "#3b6e8f"}
+
+
+def line_fit_figure(fit: Any, *, title: str | None = None) -> Figure:
+    """Data and fitted line above, residuals below, of a :class:`fieldbudget.nmr.linefit.LineFit`.
+
+    A swept line is drawn against f - f0 (Hz); an FID against time (s), with
+    I and Q for a complex record.
+    """
+    import numpy as np
+
+    fig = Figure(figsize=(6.6, 4.6), dpi=90)
+    top, bottom = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": (3, 1.2)})
+    x = np.asarray(fit.x, dtype=float)
+    sig, fitted, resid = (np.asarray(a) for a in (fit.signal, fit.fitted, fit.residuals))
+    if fit.kind == "fid":
+        xlabel = "t / s"
+    else:
+        x = x - fit.centre_hz
+        xlabel = f"f \u2212 {fit.centre_hz:.12g} Hz   (in Hz)"
+    if np.iscomplexobj(sig):
+        top.plot(x, sig.real, ".", ms=2, color=_FIT["data"], label="I (data)")
+        top.plot(x, sig.imag, ".", ms=2, color=_FIT["imag"], alpha=0.6, label="Q (data)")
+        top.plot(x, fitted.real, color=_FIT["fit"], lw=1.2, label="fit")
+        top.plot(x, fitted.imag, color=_FIT["fit"], lw=1.0, ls="--")
+        bottom.plot(x, resid.real, lw=0.6, color=_FIT["resid"])
+        bottom.plot(x, resid.imag, lw=0.6, color=_FIT["imag"], alpha=0.7)
+    else:
+        top.plot(x, sig, ".", ms=2, color=_FIT["data"], label="data")
+        top.plot(x, fitted, color=_FIT["fit"], lw=1.2, label="fit")
+        bottom.plot(x, resid, lw=0.6, color=_FIT["resid"])
+    bottom.axhline(0.0, color="#555", lw=0.6)
+    top.set_ylabel("signal")
+    bottom.set_ylabel("residual")
+    bottom.set_xlabel(xlabel)
+    top.legend(loc="upper right", fontsize="x-small", frameon=False)
+    top.set_title(title or (f"{fit.label}: centre u = {fit.u_centre_hz:.3g} Hz, CRB = {fit.crb_hz:.3g} Hz, "
+                            f"\u03c7\u00b2\u1d63 = {fit.chi2_reduced:.3g}"), fontsize="small")
+    fig.tight_layout()
+    return fig
+
+
+def field_map_figure(fit: Any, *, plane: str = "xz", offset_m: float | None = None, title: str | None = None) -> Figure:
+    """Heatmaps of the fitted field (ppm of B0) on a plane through the reference point and of the residuals.
+
+    ``plane`` is "xz", "yz" or "xy"; ``offset_m`` moves the plane along the
+    third axis (default: through the reference point).  The residuals are the
+    map points projected onto the plane, coloured by residual / rms residual.
+    """
+    import numpy as np
+
+    axes = {"x": 0, "y": 1, "z": 2}
+    if len(plane) != 2 or plane[0] not in axes or plane[1] not in axes or plane[0] == plane[1]:
+        raise ValueError(f"plane must be 'xz', 'yz' or 'xy' (got {plane!r})")
+    i, j = axes[plane[0]], axes[plane[1]]
+    k = 3 - i - j
+    xyz = np.asarray(fit.xyz_m)
+    lo, hi = xyz.min(axis=0), xyz.max(axis=0)
+    a = np.linspace(lo[i], hi[i], 121)
+    b = np.linspace(lo[j], hi[j], 121)
+    aa, bb = np.meshgrid(a, b)
+    pts = np.zeros((aa.size, 3))
+    pts[:, i], pts[:, j] = aa.ravel(), bb.ravel()
+    pts[:, k] = fit.about_m[k] if offset_m is None else offset_m
+    ppm = (fit.evaluate(pts) - fit.b0_t) / abs(fit.b0_t) * 1e6
+    fig = Figure(figsize=(9.0, 3.8), dpi=90)
+    left, right = fig.subplots(1, 2)
+    mesh = left.pcolormesh(aa * 1e3, bb * 1e3, ppm.reshape(aa.shape), shading="auto", cmap="RdBu_r")
+    left.contour(aa * 1e3, bb * 1e3, ppm.reshape(aa.shape), colors="k", linewidths=0.4, levels=10)
+    fig.colorbar(mesh, ax=left, label="(B \u2212 B0)/B0 / ppm")
+    left.set_title(f"fitted field, order {fit.order}", fontsize="small")
+    r = np.asarray(fit.residuals_t) / (fit.residual_rms_t or 1.0)
+    order = np.argsort(np.abs(r))
+    sc = right.scatter(xyz[order, i] * 1e3, xyz[order, j] * 1e3, c=r[order], s=12, cmap="RdBu_r", vmin=-3, vmax=3)
+    fig.colorbar(sc, ax=right, label="residual / rms residual")
+    right.set_title(f"residuals at the map points (rms {fit.residual_rms_t:.3g} T)", fontsize="small")
+    for ax in (left, right):
+        ax.set_xlabel(f"{plane[0]} / mm")
+        ax.set_ylabel(f"{plane[1]} / mm")
+        ax.set_aspect("equal", adjustable="box")
+    if title:
+        fig.suptitle(title, fontsize="small")
+    fig.tight_layout()
+    return fig

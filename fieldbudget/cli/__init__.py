@@ -17,8 +17,8 @@ from ..errors import FieldbudgetError
 __all__ = ["main", "COMMANDS"]
 
 # Order is the order of `fieldbudget --help`.
-COMMANDS = ("evaluate", "larmor", "nmr", "calibrate", "record", "verify", "sign", "key", "compare", "report",
-            "certificate", "demo")
+COMMANDS = ("evaluate", "larmor", "nmr", "line", "map", "calibrate", "record", "verify", "sign", "key", "compare",
+            "report", "certificate", "demo")
 
 
 class _Parser(argparse.ArgumentParser):
