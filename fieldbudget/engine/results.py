@@ -207,6 +207,9 @@ class BudgetResult:
             lines += ["", f"Monte Carlo: {self.monte_carlo!r}"]
         if self.validation is not None:
             lines.append(f"Validation: {self.validation!r}")
+            advice = getattr(self.validation, "advice", "")
+            if advice:
+                lines.append(f"  {advice}")
         for w in self.warnings:
             lines.append(f"warning: {w}")
         return "\n".join(lines)
