@@ -412,8 +412,8 @@ class Budget:
             if key in d:
                 kw[key] = d[key]
         try:
-            return cls(model=model, inputs=tuple(inputs), correlations=tuple(tuple(c) for c in corr),
-                       simultaneous=tuple(tuple(g) for g in sim), metadata=md, **kw)
+            budget = cls(model=model, inputs=tuple(inputs), correlations=tuple(tuple(c) for c in corr),
+                         simultaneous=tuple(tuple(g) for g in sim), metadata=md, **kw)
         except CorrelationError as err:
             pointer = "#/correlations" if err.field.startswith("correlation") else "#/simultaneous"
             raise BudgetFileError(where, pointer, f"{err.field} must be {err.allowed} (got {err.value!r})") from None
@@ -423,7 +423,26 @@ class Budget:
             raise BudgetFileError(where, f"#/{err.field}", f"must be {err.allowed} (got {err.value!r})") from None
         except FieldbudgetError:
             raise
+        _check_units_for_file(budget, where)
+        return budget
 
     def __repr__(self) -> str:
         m = self.model.text()
         return f"<Budget {m!r}, {len(self.inputs)} inputs, p = {self.coverage_probability:g}>"
+
+
+def _check_units_for_file(budget: Budget, where: str) -> None:
+    """The dimensional check of :mod:`.dimensions`, its errors pointing into the budget file."""
+    from .dimensions import prepare
+
+    try:
+        prepare(budget)
+    except ExpressionError as err:
+        raise BudgetFileError(where, "#/model", f"must be {err.allowed} (got {err.value!r})") from None
+    except InputError as err:
+        kind, _, name = err.where.partition(" ")
+        name = name.strip("'\"")
+        pointer = f"#/inputs/{name}/unit" if kind == "input" else "#/measurand/unit"
+        if kind != "input" and len(budget.measurands) > 1:
+            pointer = f"#/measurands/{name}/unit"
+        raise BudgetFileError(where, pointer, f"{err.field} must be {err.allowed} (got {err.value!r})") from None
