@@ -891,7 +891,7 @@ class CalibrationResult:
                          "error_T": r.value_text, "U_T": r.uncertainty_text,
                          "k": None if k is None else round(k, 2),
                          "correction_factor": p.correction_factor,
-                         "gum_validated": None if p.validation is None else bool(p.validation.passed)})
+                         "gum_validated": None if p.validation is None else p.validation.passed})
         return rows
 
     @property

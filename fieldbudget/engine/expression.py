@@ -360,6 +360,11 @@ def _run(program: tuple, env: Mapping[str, object], funcs: Mapping[str, Callable
     return stack[0]
 
 
+def _eval(node: ast.AST, env: Mapping[str, object], funcs: Mapping[str, Callable]) -> object:
+    """Evaluate one checked sub-tree (used by the dimensional check for constant exponents); no recursion."""
+    return _run(_compile(node), env, funcs)
+
+
 def parse_expression(text: str, allowed_symbols: Sequence[str] | None = None, where: str = "") -> Expression:
     """Parse and check ``text``; see :class:`Expression`."""
     return Expression(text, allowed_symbols, where)

@@ -170,16 +170,22 @@ class InputQuantity:
         return cls(symbol, value, Normal.from_expanded(expanded, k, dof, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def rectangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Rectangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def rectangular(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Rectangular(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def triangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Triangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def triangular(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Triangular(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def arcsine(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Arcsine(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def arcsine(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Arcsine(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
     def from_readings(cls, symbol: str, readings: Sequence[float], **kw) -> InputQuantity:

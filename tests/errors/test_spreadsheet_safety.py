@@ -34,7 +34,7 @@ def test_quoting_of_ordinary_text(text, expected):
 def test_csv_report_round_trips_and_neutralises(tmp_path):
     b = mixed_budget()
     b["inputs"]["a"]["source"] = "=cmd|' /C calc'!A0"
-    b["inputs"]["a"]["unit"] = "V"
+    b["inputs"]["a"]["note"] = "@SUM(1+1)"  # a risky note beside the risky source
     b["inputs"]["b"]["source"] = "line one\r\nline two, with comma"
     rec = make_record(b, created_utc=STAMP)
     rows = list(csv.DictReader(io.StringIO(render(rec, "csv").decode("utf-8"), newline="")))

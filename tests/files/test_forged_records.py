@@ -14,7 +14,7 @@ import pytest
 from fieldbudget.files.record import make_record, save_record, verify_record
 
 # x**2 with a wide input: the GUM interval is not validated by Monte Carlo (JCGM 101 9.3-like nonlinearity).
-NONLINEAR = {"model": "x**2 + z", "measurand": {"symbol": "y", "unit": "m2"},
+NONLINEAR = {"model": "x**2 + z", "units": "unchecked", "measurand": {"symbol": "y", "unit": "m2"},
              "inputs": {"x": {"value": 0.0, "u": 0.3, "unit": "m2", "source": "invented"},
                         "z": {"value": 1.0, "u": 0.05, "unit": "m2", "source": "invented"}}}
 
@@ -26,7 +26,7 @@ def _redigest(rec, **changes):
 
 @pytest.fixture(scope="module")
 def rec():
-    r = make_record(NONLINEAR, monte_carlo=20_000, seed=11, created_utc="2026-11-30T09:15:00Z")
+    r = make_record(NONLINEAR, monte_carlo=200_000, seed=11, created_utc="2026-11-30T09:15:00Z")
     assert r.validation["validated"] is False  # the premise of the validated false -> true forgery
     assert r.gum["warnings"]  # zero first-order sensitivity of x: a warning to remove
     assert verify_record(r).passed

@@ -69,7 +69,8 @@ def test_record_holds_what_the_issue_lists(mc_record):
     assert d["settings"]["monte_carlo"]["trials"] == 4000 and d["settings"]["monte_carlo"]["seed"] == 20261130
     mc = d["results"]["monte_carlo"]
     assert {"trials", "seed", "generator", "numpy_version"} <= set(mc)
-    assert d["results"]["validation"] is not None and isinstance(d["results"]["validation"]["validated"], bool)
+    # 4000 trials are too few to know the spread of the interval ends: the validation is undecided (null)
+    assert d["results"]["validation"] is not None and d["results"]["validation"]["validated"] is None
     assert d["revision"] == 1 and d["previous_digest"] is None and d["changes"] == []
 
 
@@ -287,7 +288,7 @@ def test_a_budget_with_several_measurands_gets_a_several_output_record(tmp_path)
     b = mixed_budget()
     del b["measurand"]
     b["model"] = {"K": "a + b", "L": "c * d"}
-    b["measurands"] = {"K": {"unit": "1"}, "L": {"unit": "1"}}
+    b["measurands"] = {"K": {"unit": "mT/A"}, "L": {"unit": "1"}}
     b["correlations"] = []
     rec = make_record(b, monte_carlo=20_000, seed=4, created_utc=STAMP)
     assert rec.kind == "fieldbudget several-output record"
