@@ -17,7 +17,8 @@ from ..errors import FieldbudgetError
 __all__ = ["main", "COMMANDS"]
 
 # Order is the order of `fieldbudget --help`.
-COMMANDS = ("evaluate", "larmor", "nmr", "record", "verify", "compare", "report", "demo")
+COMMANDS = ("evaluate", "larmor", "nmr", "record", "verify", "compare", "report", "demo", "register", "archive",
+            "monitor")
 
 
 def build_parser() -> argparse.ArgumentParser:
