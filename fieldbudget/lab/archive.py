@@ -62,7 +62,7 @@ GENESIS = "0" * 64
 _READ_ONLY = stat.S_IRUSR | stat.S_IRGRP | stat.S_IROTH
 
 _COLUMNS = ("seq", "file", "record_digest", "file_sha256", "prev_link", "link", "added_utc", "added_by",
-            "created_utc", "measured", "measurand", "unit", "value", "u", "U", "k", "operator", "item",
+            "created_utc", "measured", "measurand", "unit", "value", "u_c", "U", "k", "operator", "item",
             "instruments", "title", "record_id", "revision")
 
 _SCHEMA = """
@@ -81,7 +81,7 @@ CREATE TABLE IF NOT EXISTS entries (
     measurand TEXT NOT NULL,
     unit TEXT NOT NULL,
     value REAL,
-    u REAL,
+    u_c REAL,
     U REAL,
     k REAL,
     operator TEXT NOT NULL,
@@ -131,7 +131,7 @@ def _describe(record) -> dict:
         "measured": str(measured)[:10],
         "measurand": str(measurand.get("symbol", "")),
         "unit": str(measurand.get("unit", "")),
-        "value": _num(gum.get("value")), "u": _num(gum.get("u")), "U": _num(gum.get("U")), "k": _num(gum.get("k")),
+        "value": _num(gum.get("value")), "u_c": _num(gum.get("u")), "U": _num(gum.get("U")), "k": _num(gum.get("k")),
         "operator": record.operator or str(mmd.get("operator", "")),
         "item": str(mmd.get("item", "")),
         # wrapped in commas so that LIKE '%,ID,%' finds exactly one id
@@ -159,7 +159,7 @@ class Entry:
     measurand: str
     unit: str
     value: float | None
-    u: float | None
+    u_c: float | None
     U: float | None
     k: float | None
     operator: str
@@ -448,15 +448,15 @@ class Archive:
             else:
                 problems.append(Problem("changed", e.seq, f"{e.file} differs from the file that was added "
                                         "(its SHA-256 does not match)"))
-        head = prev
+        noted, head = head, prev
         known = {e.file for e in entries}
         if self.records_dir.exists():
             for p in sorted(self.records_dir.iterdir()):
                 if p.name not in known and not p.name.startswith("."):
                     problems.append(Problem("unindexed", None, f"{p.name} is in the archive but was never added"))
         problems += self._check_log(entries)
-        if head and head.strip().lower() not in {e.link for e in entries} | {GENESIS}:
-            problems.append(Problem("removed", None, f"no entry has the link noted earlier ({head.strip()[:16]}...): "
+        if noted and noted.strip().lower() not in {e.link for e in entries} | {GENESIS}:
+            problems.append(Problem("removed", None, f"no entry has the link noted earlier ({noted.strip()[:16]}...): "
                                     "entries were removed from the end or the archive was rewritten"))
         if writable:
             notes.append(f"{len(writable)} archived file(s) are writable (copied or checked out?); they should be "
