@@ -49,6 +49,7 @@ __all__ = [
     "StatusRow",
     "load_instrument",
     "load_register",
+    "measurement_day",
     "parse_date",
     "referring_sections",
     "resolve_instruments",
@@ -399,7 +400,7 @@ class RegisterNote:
         return d
 
 
-def measurement_date(description: Mapping, where: str = "measurement") -> _dt.date | None:
+def measurement_day(description: Mapping, where: str = "measurement") -> _dt.date | None:
     """The measurement's date from ``metadata.date`` (ISO 8601), or None when it has none."""
     md = description.get("metadata")
     if isinstance(md, Mapping) and md.get("date") not in (None, ""):
@@ -412,7 +413,7 @@ def referring_sections(description: Mapping) -> list[str]:
     return [k for k, v in description.items() if k != "metadata" and isinstance(v, Mapping) and "instrument" in v]
 
 
-def resolve_instruments(description: Mapping, register: Register, measurement_date_: Any = None, *,
+def resolve_instruments(description: Mapping, register: Register, measurement_date: Any = None, *,
                         accept_expired: Mapping[str, str] | None = None,
                         where: str = "measurement") -> tuple[dict, tuple[RegisterNote, ...]]:
     """Replace each ``{"instrument": ID}`` section of a measurement description by the register's values.
@@ -423,7 +424,7 @@ def resolve_instruments(description: Mapping, register: Register, measurement_da
         The measurement description (not changed; a resolved copy is returned).
     register : Register
         The laboratory's register.
-    measurement_date_ : date or ISO text, optional
+    measurement_date : date or ISO text, optional
         The day of the measurement; by default ``metadata.date`` of the description.
     accept_expired : mapping, optional
         ``{instrument id: reason}``: use that instrument's expired certificate anyway.  A
@@ -453,8 +454,8 @@ def resolve_instruments(description: Mapping, register: Register, measurement_da
     sections = referring_sections(out)
     if not sections:
         return out, ()
-    day = (parse_date(measurement_date_, "measurement date", where) if measurement_date_ not in (None, "")
-           else measurement_date(out, where))
+    day = (parse_date(measurement_date, "measurement date", where) if measurement_date not in (None, "")
+           else measurement_day(out, where))
     if day is None:
         raise InputError("metadata.date", None, "the measurement's date (YYYY-MM-DD), needed to choose the "
                          "certificate in force", where)
