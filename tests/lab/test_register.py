@@ -184,3 +184,35 @@ def test_register_commands(capsys, tmp_path):
         assert main(argv) == 2
         err = capsys.readouterr().err
         assert words in err and len(err.strip().splitlines()) == 1
+
+
+def test_the_nmr_draft_resolves_instruments_when_a_lab_is_set():
+    from fieldbudget.drafts.nmr_draft import NMRDraft
+
+    draft = NMRDraft(_desc(), lab=EXAMPLE_LAB)
+    assert draft.current and [n.instrument for n in draft.register_notes] == ["FC-9", "PX-3"]
+    y_tb = next(q for q in draft.budget.inputs if q.symbol == "y_tb")
+    assert y_tb.estimate == 2.1e-9
+    good = draft.budget
+    # an expired certificate: the message sits beside the instrument field, the last good budget stays
+    assert not draft.set("probe_perturbation.instrument", "PX-4")
+    assert "LMCL-PC-2024-009 was due on 2026-06-28" in draft.fields["probe_perturbation.instrument"].error
+    assert draft.last_good_budget is good
+    with_reason = NMRDraft({**_desc(), "probe_perturbation": {"instrument": "PX-4"}}, lab=EXAMPLE_LAB,
+                           accept_expired={"PX-4": "PX-3 at repair"})
+    assert with_reason.current and with_reason.register_notes[1].reason == "PX-3 at repair"
+
+
+def test_the_registered_timebase_certificate_agrees_with_the_certificate_file():
+    # examples/data/certificate-LMCL-FS-2026-0712.toml is the certificate as issued: u = U / k
+    import tomllib
+
+    cert_file = tomllib.loads((EXAMPLE_LAB.parent / "data" / "certificate-LMCL-FS-2026-0712.toml").read_text())
+    cert = load_register(EXAMPLE_LAB / "register").get("FC-9").latest
+    assert cert.id == cert_file["certificate"] and cert.date.isoformat() == cert_file["calibration_date"]
+    assert cert.values["offset"] == cert_file["result"]["fractional_frequency_offset"]
+    assert cert.values["u"] == pytest.approx(cert_file["result"]["expanded_uncertainty"]
+                                             / cert_file["result"]["coverage_factor"], rel=1e-15)
+    assert cert.values["ageing_per_day"] == cert_file["stability"]["ageing_per_day"]
+    assert (EXAMPLE_LAB / "register" / cert.file).resolve() == (EXAMPLE_LAB.parent / "data" /
+                                                                "certificate-LMCL-FS-2026-0712.toml").resolve()
