@@ -49,6 +49,8 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     c = verbs.add_parser("check", help="check the archive's chain, files, index and log (exit 0 only if intact)")
     c.add_argument("--head", metavar="LINK", default=None,
                    help="a head link noted earlier: the archive must still contain it")
+    c.add_argument("--verify", action="store_true",
+                   help="also re-evaluate every record and compare with its recorded results (slower)")
     c.add_argument("--json", action="store_true", help="print the findings as JSON")
     add_lab_option(c)
     return p
@@ -78,7 +80,7 @@ def run(args: argparse.Namespace) -> int:
         else:
             print("no archived record matches" if args.verb == "find" else "the archive is empty")
         return 0
-    result = archive.check(head=args.head)
+    result = archive.check(head=args.head, recompute=args.verify)
     if args.json:
         print(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
     else:

@@ -185,7 +185,8 @@ class Entry:
 
 @dataclass(frozen=True)
 class Problem:
-    """One thing :func:`Archive.check` found: ``kind`` is changed, removed, reordered, unindexed, log or index."""
+    """One thing :func:`Archive.check` found: ``kind`` is changed, removed, reordered, unindexed, log, index
+    or recomputed."""
 
     kind: str
     seq: int | None
@@ -397,11 +398,13 @@ class Archive:
                             fmt(e.U, 2), fmt(e.k, 3), e.operator, e.item or e.title, e.file) for e in entries])
 
     # -- checking -------------------------------------------------------------------
-    def check(self, *, head: str | None = None) -> ArchiveCheck:
+    def check(self, *, head: str | None = None, recompute: bool = False) -> ArchiveCheck:
         """Recompute the chain from the files and compare it with the index and the log.
 
         ``head``: a link noted earlier (from a previous check, in the logbook); an
         archive that has no entry with that link was rewritten or cut short.
+        ``recompute``: also re-evaluate every record (:func:`~fieldbudget.files.record.verify_record`);
+        a record whose results this release no longer reproduces is a ``recomputed`` finding.
         """
         problems: list[Problem] = []
         notes: list[str] = []
@@ -436,6 +439,8 @@ class Archive:
             if path.stat().st_mode & (stat.S_IWUSR | stat.S_IWGRP | stat.S_IWOTH):
                 writable.append(e.file)
             if hashlib.sha256(data).hexdigest() == e.file_sha256:
+                if recompute:
+                    problems += self._recompute(e, path)
                 continue
             try:
                 rec = load_record(path, check_digest=False)
@@ -462,6 +467,16 @@ class Archive:
             notes.append(f"{len(writable)} archived file(s) are writable (copied or checked out?); they should be "
                          "read-only, e.g. " + writable[0])
         return ArchiveCheck(len(entries), head, tuple(problems), tuple(notes))
+
+    def _recompute(self, e: Entry, path: Path) -> list[Problem]:
+        from ..files.record import verify_record
+
+        try:
+            result = verify_record(path)
+        except FieldbudgetError as err:
+            return [Problem("recomputed", e.seq, f"{e.file} cannot be verified ({err})")]
+        return [Problem("recomputed", e.seq, f"{c.name}: {c.detail}") for c in result.failures
+                if c.name != "file form"]
 
     def _check_log(self, entries) -> list[Problem]:
         if not self.log_path.exists():

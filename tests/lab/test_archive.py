@@ -241,3 +241,24 @@ def test_archive_add_command_and_its_errors(capsys, tmp_path):
         assert main(argv) == 2
         err = capsys.readouterr().err
         assert words in err and len(err.strip().splitlines()) == 1, err
+
+
+def test_check_can_re_evaluate_every_record(filled):
+    assert filled.check(recompute=True).intact
+    # a record whose recorded result no longer follows from its inputs, with a matching digest
+    from dataclasses import replace
+
+    from fieldbudget.files.record import load_record, save_record
+
+    e = filled.entries()[0]
+    rec = load_record(filled.path_of(e))
+    gum = dict(rec.gum)
+    gum["U"] = gum["U"] * 0.5
+    forged = replace(rec, gum=gum)
+    forged = replace(forged, digest=forged.computed_digest())
+    src = filled.folder.parent / "forged.json"
+    save_record(forged, src)
+    entry = filled.add(src)
+    found = filled.check(recompute=True)
+    assert [(p.kind, p.seq) for p in found.problems] == [("recomputed", entry.seq)]
+    assert filled.check().intact          # the chain alone cannot see it: it was added like that
