@@ -48,7 +48,7 @@ from .._display import fmt, html_table, text_table
 from ..errors import FieldbudgetError, InputError, RecordError
 from ..files.atomic import atomic_write_bytes
 from ..files.record import load_record
-from .folder import LabFolder
+from .folder import LabFolder, dict_html
 
 try:  # POSIX
     import fcntl
@@ -517,3 +517,8 @@ class Archive:
                  e.item or e.title) for e in self.entries()]
         return html_table(("#", "measured", "measurand", "value", "U", "operator", "item / title"), rows,
                           caption=f"archive {self.folder}", css_class="fb-table fb-archive")
+
+
+# the small values show their to_dict as a table in a notebook
+for _cls in (Entry, Problem):
+    _cls._repr_html_ = dict_html

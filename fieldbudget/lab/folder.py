@@ -70,3 +70,14 @@ def lab_folder(path: str | os.PathLike | None = None, *, must_exist: bool = True
     if must_exist and not p.is_dir():
         raise InputError("--lab", str(raw), "an existing laboratory folder", "laboratory")
     return LabFolder(p)
+
+
+def dict_html(self: Any) -> str:
+    """``_repr_html_`` for the small values of this package: their ``to_dict`` as a two-column table."""
+    import json
+
+    from .._display import html_table
+
+    rows = [(k, v if isinstance(v, (str, int, float)) or v is None else json.dumps(v, ensure_ascii=False))
+            for k, v in self.to_dict().items()]
+    return html_table(("", ""), rows, caption=type(self).__name__, css_class="fb-table fb-lab")

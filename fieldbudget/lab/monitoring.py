@@ -30,6 +30,7 @@ from typing import Any
 
 from .._display import fmt, html_table, text_table
 from ..errors import InputError
+from .folder import dict_html
 
 __all__ = [
     "RULES",
@@ -206,6 +207,10 @@ class EWMA:
     @property
     def signals(self) -> tuple[int, ...]:
         return tuple(i for i, (v, lo, hi) in enumerate(zip(self.z, self.lower, self.upper)) if v < lo or v > hi)
+
+    def __repr__(self) -> str:
+        sig = ", ".join(str(i + 1) for i in self.signals) or "none"
+        return f"<EWMA lambda {self.lam:g}, L {self.L:g}, {len(self.z)} points, signals at: {sig}>"
 
     def to_dict(self) -> dict:
         return {"lambda": self.lam, "L": self.L, "z": list(self.z), "lower": list(self.lower),
@@ -784,3 +789,8 @@ def score_rounds(doc: Mapping, where: str = "comparison file") -> tuple[Comparis
                                    nums["reference_value"], nums["reference_U"], kX, nums.get("sigma_pt"),
                                    tuple(scores)))
     return tuple(out)
+
+
+# the small values show their to_dict as a table in a notebook
+for _cls in (Rule, Violation, EWMA, IntervalReview, Score, ComparisonRound):
+    _cls._repr_html_ = dict_html

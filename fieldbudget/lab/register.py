@@ -37,7 +37,7 @@ from typing import Any
 
 from .._display import html_table, text_table
 from ..errors import BudgetFileError, Finding, InputError
-from .folder import LabFolder
+from .folder import LabFolder, dict_html
 
 __all__ = [
     "STATUSES",
@@ -516,3 +516,8 @@ def resolve_instruments(description: Mapping, register: Register, measurement_da
     md["register"] = [n.to_dict() for n in notes]
     out["metadata"] = md
     return out, tuple(notes)
+
+
+# the small values show their to_dict as a table in a notebook
+for _cls in (Certificate, Instrument, StatusRow, RegisterNote):
+    _cls._repr_html_ = dict_html
