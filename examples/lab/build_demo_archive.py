@@ -5,7 +5,8 @@ Laboratory, its staff, instruments, serial numbers, certificates and every
 reading made here are fictional.
 
 Twenty-four monthly measurements of check magnet CM-1 by proton NMR (the
-check standard), and two reference-field measurements of electromagnet
+check standard), each made with the reference probe PX-3 and then with the
+second probe PX-5, and two reference-field measurements of electromagnet
 EM-250, one of them with the spare probe PX-4 whose characterisation had
 expired (accepted with a reason).  Each measurement names its counter's
 timebase and its probe by register id; the values, the certificate and the
@@ -49,6 +50,9 @@ DAYS = ("2024-12-10", "2025-01-14", "2025-02-11", "2025-03-11", "2025-04-15", "2
         "2026-09-08", "2026-10-13", "2026-11-10")
 WATER_C = (21.3, 20.8, 20.6, 21.0, 21.6, 22.1, 22.8, 23.4, 23.1, 22.5, 21.9, 21.2,
            20.7, 20.5, 20.9, 21.4, 21.8, 22.4, 23.0, 23.5, 23.2, 22.6, 21.8, 21.1)
+# PX-5 reads the check magnet this many nanotesla above PX-3 (invented; in control, mean about -4 nT)
+PX5_MINUS_PX3_nT = (4.0, 9.0, 1.0, 6.0, 12.0, 3.0, 7.0, -2.0, 5.0, 10.0, 2.0, 8.0,
+                    6.0, 0.0, 14.0, 4.0, 11.0, -3.0, 7.0, 1.0, 13.0, 8.0, 2.0, 6.0)
 # ten-reading pattern of the counter (Hz about the mean), the same shape each month
 PATTERN_Hz = (0.021, -0.013, 0.008, -0.027, 0.016, -0.004, 0.011, -0.019, 0.003, 0.004)
 
@@ -57,12 +61,12 @@ def _gamma_hz_per_t() -> float:
     return lookup("shielded proton gyromag. ratio in MHz/T", edition=2022).value * 1e6
 
 
-def check_magnet_description(i: int) -> dict:
-    b = B_CHECK + DEVIATIONS_uT[i] * 1e-6
+def check_magnet_description(i: int, probe: str = "PX-3") -> dict:
+    b = B_CHECK + DEVIATIONS_uT[i] * 1e-6 + (PX5_MINUS_PX3_nT[i] * 1e-9 if probe == "PX-5" else 0.0)
     f0 = b * _gamma_hz_per_t()
     return {
         "format": "fieldbudget-nmr/1",
-        "id": f"LMCL-CM1-{DAYS[i][:7]}",
+        "id": f"LMCL-CM1-{DAYS[i][:7]}" + ("-PX5" if probe == "PX-5" else ""),
         "title": "Check magnet CM-1 (DEMO-CM1 s/n CM1-0042), monthly check by proton NMR",
         "description": "INVENTED DATA FOR THE FIELDBUDGET DEMO.",
         "metadata": {
@@ -81,7 +85,7 @@ def check_magnet_description(i: int) -> dict:
         "u_gradient_T_per_m": 2.0e-4,
         "offset_m": 0.0,
         "u_offset_m": 1.0e-4,
-        "probe_perturbation": {"instrument": "PX-3"},
+        "probe_perturbation": {"instrument": probe},
     }
 
 
@@ -126,14 +130,14 @@ def main() -> int:
         shutil.rmtree(lab.archive_dir)
     register = load_register(lab)
     archive = Archive(lab)
-    jobs = [(check_magnet_description(i), DAYS[i]) for i in range(len(DAYS))]
+    jobs = [(check_magnet_description(i, probe), DAYS[i]) for i in range(len(DAYS)) for probe in ("PX-3", "PX-5")]
     f_em = 1.0 * _gamma_hz_per_t() + 123.4
     jobs.insert(6, (reference_field_description("2025-06-18", "PX-3", f_em, None), "2025-06-18"))
     jobs.append((reference_field_description(
         "2026-07-21", "PX-4", f_em + 0.9, "PX-3 away for repair (job LMCL-R-2026-014); PX-4's characterisation "
         "of 2024 is the latest, its u of 2e-8 is kept and the result is marked for re-measurement with PX-3"),
         "2026-07-21"))
-    jobs.sort(key=lambda j: j[1])
+    jobs.sort(key=lambda j: j[1])  # stable: PX-3 before PX-5 on the same day
     example_dir = LAB / "measurements"
     with tempfile.TemporaryDirectory() as tmp:
         for n, (desc, day) in enumerate(jobs):

@@ -17,7 +17,14 @@ from pathlib import Path
 
 from ..errors import BudgetFileError, InputError
 from ..lab.archive import Archive
-from ..lab.monitoring import chart_from_entries, chart_from_settings, drift, review_interval, score_rounds
+from ..lab.monitoring import (
+    chart_from_entries,
+    chart_from_settings,
+    chart_of_differences,
+    drift,
+    review_interval,
+    score_rounds,
+)
 from ..lab.register import load_register
 from ._labopts import add_lab_option, lab_of
 
@@ -37,6 +44,10 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     c.add_argument("--item", help="records whose item contains this text (instead of --series)")
     c.add_argument("--measurand", help="records of this measurand symbol")
     c.add_argument("--instrument", help="records that used this instrument")
+    c.add_argument("--against-instrument", metavar="ID",
+                   help="chart the day-by-day difference from the same records made with this instrument "
+                        "(e.g. the reference probe against a second probe)")
+    c.add_argument("--against-item", metavar="TEXT", help="the second series' item, when it differs")
     c.add_argument("--baseline", type=int, default=None, help="number of first points that set the limits")
     c.add_argument("--ewma", type=float, metavar="LAMBDA", default=None, help="add an EWMA chart (e.g. 0.2)")
     c.add_argument("--json", action="store_true", help="print the chart as JSON")
@@ -85,7 +96,8 @@ def run(args: argparse.Namespace) -> int:
         return 0
     lab = lab_of(args)
     if args.verb == "chart":
-        if args.series and (args.item or args.measurand or args.instrument):
+        if args.series and (args.item or args.measurand or args.instrument or args.against_instrument
+                            or args.against_item):
             raise InputError("--series", args.series, "given alone (or use --item/--measurand/--instrument)",
                              "monitor chart")
         if args.series:
@@ -96,9 +108,16 @@ def run(args: argparse.Namespace) -> int:
                 chart = individuals_chart(chart.values, baseline=args.baseline, U=chart.U, labels=chart.labels,
                                           unit=chart.unit, title=chart.title, ewma_lambda=args.ewma)
         elif args.item or args.measurand or args.instrument:
-            entries = Archive(lab).series(item=args.item, measurand=args.measurand, instrument=args.instrument)
-            chart = chart_from_entries(entries, baseline=args.baseline, ewma_lambda=args.ewma,
-                                       title=args.item or args.measurand or args.instrument)
+            archive = Archive(lab)
+            entries = archive.series(item=args.item, measurand=args.measurand, instrument=args.instrument)
+            title = " ".join(x for x in (args.item, args.measurand, args.instrument) if x)
+            if args.against_instrument or args.against_item:
+                other = archive.series(item=args.against_item or args.item, measurand=args.measurand,
+                                       instrument=args.against_instrument)
+                chart = chart_of_differences(entries, other, baseline=args.baseline, ewma_lambda=args.ewma,
+                                             title=f"{title} minus {args.against_item or args.against_instrument}")
+            else:
+                chart = chart_from_entries(entries, baseline=args.baseline, ewma_lambda=args.ewma, title=title)
         else:
             raise InputError("--series", None, "a series of settings.toml, or --item/--measurand/--instrument",
                              "monitor chart")

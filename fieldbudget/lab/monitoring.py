@@ -41,7 +41,11 @@ __all__ = [
     "Rule",
     "Score",
     "Violation",
+    "chart_from_entries",
+    "chart_from_settings",
+    "chart_of_differences",
     "d2_pairs",
+    "differences",
     "drift",
     "en_number",
     "ewma",
@@ -431,11 +435,56 @@ def chart_from_entries(entries: Sequence[Any], **kwargs: Any) -> ControlChart:
     return replace(chart, extra={"entries": [e.seq for e in entries]})
 
 
+def differences(first: Sequence[Any], second: Sequence[Any]) -> tuple[tuple[str, float, float | None], ...]:
+    """(date, value of ``first`` - value of ``second``, U of the difference) for each date both series have.
+
+    For the reference probe against a second probe: the same field measured with
+    each on the same day.  U of the difference is sqrt(U1^2 + U2^2), which
+    leaves out the correlation of what the two measurements share (the timebase,
+    the reference constant); that makes it larger, not smaller, than the U of the
+    difference when that correlation is positive.  When a series has several
+    entries on one day, the last added is used.
+    """
+    def by_day(entries):
+        out = {}
+        for e in sorted(entries, key=lambda e: e.seq):
+            if e.value is not None:
+                out[e.measured] = e
+        return out
+
+    a, b = by_day(first), by_day(second)
+    rows = []
+    for day in sorted(set(a) & set(b)):
+        ea, eb = a[day], b[day]
+        if ea.unit != eb.unit:
+            raise InputError("series", (ea.unit, eb.unit), f"two series in one unit (on {day})", "control chart")
+        U = math.hypot(ea.U, eb.U) if ea.U is not None and eb.U is not None else None
+        rows.append((day, ea.value - eb.value, U))
+    return tuple(rows)
+
+
+def chart_of_differences(first: Sequence[Any], second: Sequence[Any], **kwargs: Any) -> ControlChart:
+    """An individuals chart of :func:`differences` of two archived series."""
+    rows = differences(first, second)
+    if len(rows) < 2:
+        raise InputError("series", len(rows), "at least 2 days on which both series were measured",
+                         "control chart")
+    units = {e.unit for e in first}
+    kwargs.setdefault("unit", units.pop() if len(units) == 1 else "")
+    return individuals_chart([r[1] for r in rows], U=[r[2] for r in rows], labels=[r[0] for r in rows], **kwargs)
+
+
+_SERIES_KEYS = {"item", "measurand", "instrument", "against_item", "against_measurand", "against_instrument",
+                "baseline", "ewma_lambda", "title"}
+
+
 def chart_from_settings(lab: Any, name: str, *, ewma_lambda: float | None = None) -> ControlChart:
     """The chart of series ``name`` set up in the lab's ``settings.toml`` ``[monitoring.<name>]``.
 
     Keys: ``item`` (part of the records' item), ``measurand``, ``instrument``,
-    ``baseline`` (points), ``ewma_lambda``, ``title``.
+    ``baseline`` (points), ``ewma_lambda``, ``title``; with ``against_instrument``
+    (and optionally ``against_item``, ``against_measurand``, which default to the
+    first series' ones) the chart is of the day-by-day difference of the two series.
     """
     from .archive import Archive
 
@@ -444,15 +493,20 @@ def chart_from_settings(lab: Any, name: str, *, ewma_lambda: float | None = None
         known = ", ".join(sorted(k for k, v in table.items() if isinstance(v, Mapping))) or "none set up"
         raise InputError("--series", name, f"a series of settings.toml [monitoring] ({known})", str(lab.path))
     cfg = dict(table[name])
-    allowed = {"item", "measurand", "instrument", "baseline", "ewma_lambda", "title"}
-    bad = sorted(set(cfg) - allowed)
+    bad = sorted(set(cfg) - _SERIES_KEYS)
     if bad:
-        raise InputError(f"[monitoring.{name}] {bad[0]}", cfg[bad[0]], "one of " + ", ".join(sorted(allowed)),
+        raise InputError(f"[monitoring.{name}] {bad[0]}", cfg[bad[0]], "one of " + ", ".join(sorted(_SERIES_KEYS)),
                          str(lab.settings_path))
-    entries = Archive(lab).series(item=cfg.get("item"), measurand=cfg.get("measurand"),
-                                  instrument=cfg.get("instrument"))
+    archive = Archive(lab)
+    entries = archive.series(item=cfg.get("item"), measurand=cfg.get("measurand"), instrument=cfg.get("instrument"))
     lam = ewma_lambda if ewma_lambda is not None else cfg.get("ewma_lambda")
-    return chart_from_entries(entries, baseline=cfg.get("baseline"), title=cfg.get("title", name), ewma_lambda=lam)
+    kw = {"baseline": cfg.get("baseline"), "title": cfg.get("title", name), "ewma_lambda": lam}
+    if any(k.startswith("against_") for k in cfg):
+        other = archive.series(item=cfg.get("against_item", cfg.get("item")),
+                               measurand=cfg.get("against_measurand", cfg.get("measurand")),
+                               instrument=cfg.get("against_instrument"))
+        return chart_of_differences(entries, other, **kw)
+    return chart_from_entries(entries, **kw)
 
 
 # ----------------------------------------------------------------------------

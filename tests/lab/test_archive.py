@@ -202,10 +202,10 @@ def test_archive_commands_on_the_example_lab(capsys, lab_copy, monkeypatch):
     monkeypatch.setenv("FIELDBUDGET_LAB", str(lab_copy))
     assert main(["archive", "check"]) == 0
     out = capsys.readouterr().out
-    assert "26 entries" in out and "archive intact" in out
+    assert "50 entries" in out and "archive intact" in out
     assert main(["archive", "list", "--json"]) == 0
     entries = json.loads(capsys.readouterr().out)
-    assert len(entries) == 26 and entries[0]["instruments"] == ["CM-1", "FC-9", "PX-3", "TH-7"]
+    assert len(entries) == 50 and entries[0]["instruments"] == ["CM-1", "FC-9", "PX-3", "TH-7"]
     assert main(["archive", "find", "--instrument", "PX-4", "--json"]) == 0
     (px4,) = json.loads(capsys.readouterr().out)
     assert px4["measured"] == "2026-07-21"
@@ -213,7 +213,7 @@ def test_archive_commands_on_the_example_lab(capsys, lab_copy, monkeypatch):
     out = capsys.readouterr().out
     assert "2026-01-13" in out and "2025-12-09" not in out
     assert main(["archive", "find", "--operator", "Lindqvist", "--json"]) == 0
-    assert len(json.loads(capsys.readouterr().out)) == 12
+    assert len(json.loads(capsys.readouterr().out)) == 24   # 12 months, two probes each
     # the example is not touched by reading it
     before = (EXAMPLE_LAB / "archive" / "index.sqlite").read_bytes()
     assert main(["archive", "list", "--lab", str(EXAMPLE_LAB)]) == 0

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 import re
 import shlex
 
@@ -32,7 +33,27 @@ def test_the_check_magnet_chart_of_the_example(capsys):
     assert "test 1 (outside the limits): point 14" in out and "test 2 (run on one side): points 16 to 24" in out
     # the same series chosen by item and measurand
     assert main(["monitor", "chart", "--lab", str(EXAMPLE_LAB), "--item", "DEMO-CM1", "--measurand", "B0",
-                 "--baseline", "12", "--json"]) == 0
+                 "--instrument", "PX-3", "--baseline", "12", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["values"] == chart["values"]
+
+
+def test_the_reference_probe_against_the_second_probe(capsys):
+    assert main(["monitor", "chart", "--lab", str(EXAMPLE_LAB), "--series", "probe-pair", "--json"]) == 0
+    chart = json.loads(capsys.readouterr().out)
+    # the differences recomputed here from the two archived series, day by day
+    rows = {}
+    for probe in ("PX-3", "PX-5"):
+        assert main(["archive", "find", "--lab", str(EXAMPLE_LAB), "--item", "DEMO-CM1", "--instrument", probe,
+                     "--json"]) == 0
+        rows[probe] = {e["measured"]: e for e in json.loads(capsys.readouterr().out)}
+    days = sorted(rows["PX-3"])
+    assert chart["labels"] == days and len(days) == 24
+    assert chart["values"] == [rows["PX-3"][d]["value"] - rows["PX-5"][d]["value"] for d in days]
+    assert chart["U"] == [math.hypot(rows["PX-3"][d]["U"], rows["PX-5"][d]["U"]) for d in days]
+    assert chart["violations"] == [] and chart["in_control"]
+    # the same from the command line options
+    assert main(["monitor", "chart", "--lab", str(EXAMPLE_LAB), "--item", "DEMO-CM1", "--measurand", "B0",
+                 "--instrument", "PX-3", "--against-instrument", "PX-5", "--baseline", "12", "--json"]) == 0
     assert json.loads(capsys.readouterr().out)["values"] == chart["values"]
 
 

@@ -26,10 +26,10 @@ def _desc(name="LMCL-CM1-2026-11.json"):
 
 def test_the_example_register_loads_and_reports_states():
     reg = load_register(lab_folder(EXAMPLE_LAB))
-    assert reg.ids() == ("CM-1", "FC-9", "HT-2", "PX-3", "PX-4", "TH-7")
+    assert reg.ids() == ("CM-1", "FC-9", "HT-2", "PX-3", "PX-4", "PX-5", "TH-7")
     states = {r.id: r.state for r in reg.status_on(dt.date(2026, 12, 2), due_soon_days=30)}
     assert states == {"CM-1": "valid", "FC-9": "valid", "HT-2": "not in use", "PX-3": "valid", "PX-4": "overdue",
-                      "TH-7": "due soon"}
+                      "PX-5": "valid", "TH-7": "due soon"}
     rows = {r.id: r for r in reg.status_on(dt.date(2026, 12, 2))}
     assert rows["TH-7"].days_left == (dt.date(2026, 12, 18) - dt.date(2026, 12, 2)).days == 16
     assert rows["PX-4"].problem and not rows["TH-7"].problem
