@@ -288,7 +288,11 @@ class Archive:
         file_sha = hashlib.sha256(data).hexdigest()
         info = _describe(rec)
         with self._lock():
-            con = self._connect(write=True)
+            try:
+                con = self._connect(write=True)
+            except sqlite3.DatabaseError as err:
+                raise RecordError(f"{self.index_path}: the archive's index cannot be written ({err}); nothing "
+                                  "was added") from None
             try:
                 con.execute("BEGIN IMMEDIATE")
                 dup = con.execute("SELECT seq FROM entries WHERE record_digest = ?", (rec.digest,)).fetchone()
@@ -378,11 +382,15 @@ class Archive:
         if where:
             sql += " WHERE " + " AND ".join(where)
         sql += " ORDER BY seq"
-        con = self._connect(write=False)
         try:
-            return tuple(Entry(**dict(r)) for r in con.execute(sql, args))
-        finally:
-            con.close()
+            con = self._connect(write=False)
+            try:
+                return tuple(Entry(**dict(r)) for r in con.execute(sql, args))
+            finally:
+                con.close()
+        except sqlite3.DatabaseError as err:
+            raise RecordError(f"{self.index_path}: the archive's index cannot be read ({err}); "
+                              "run `fieldbudget archive check`") from None
 
     def path_of(self, entry: Entry) -> Path:
         return self.records_dir / entry.file
@@ -414,8 +422,8 @@ class Archive:
             return ArchiveCheck(0, GENESIS, tuple(problems), ("the archive is empty",))
         try:
             entries = self.entries()
-        except sqlite3.DatabaseError as err:
-            return ArchiveCheck(0, GENESIS, (Problem("index", None, f"the index cannot be read ({err})"),))
+        except RecordError as err:
+            return ArchiveCheck(0, GENESIS, (Problem("index", None, str(err)),))
         by_digest = {e.record_digest: e for e in entries}
         prev = GENESIS
         expected_seq = 1

@@ -693,6 +693,8 @@ def review_interval(instrument: Any, fit: DriftFit | None = None, *, limit: floa
         raise InputError("--limit", lim, "the allowed change since calibration, a number > 0 (or [review] limit "
                          "in the register)", f"instrument {instrument.id}")
     kk = float(k if k is not None else review.get("k", 2.0))
+    if not (math.isfinite(kk) and kk > 0):
+        raise InputError("--k", kk, "a coverage factor > 0", f"instrument {instrument.id}")
     lim = float(lim)
     u_cal = fit.u[-1] if fit.u and fit.u[-1] > 0 else (fit.s_residual or 0.0)
     b, ub = abs(fit.slope_per_day), fit.u_slope if math.isfinite(fit.u_slope) else 0.0

@@ -511,7 +511,9 @@ def resolve_instruments(description: Mapping, register: Register, measurement_da
                                   days_since_calibration=days, values=values, state=state,
                                   reason=reason.strip() if state != "valid" else ""))
     md = out.get("metadata")
-    md = dict(md) if isinstance(md, dict) else {}
+    if md is not None and not isinstance(md, dict):
+        raise InputError("metadata", md, "an object", where)
+    md = dict(md or {})
     md.setdefault("date", day.isoformat())
     md["register"] = [n.to_dict() for n in notes]
     out["metadata"] = md

@@ -262,3 +262,16 @@ def test_check_can_re_evaluate_every_record(filled):
     found = filled.check(recompute=True)
     assert [(p.kind, p.seq) for p in found.problems] == [("recomputed", entry.seq)]
     assert filled.check().intact          # the chain alone cannot see it: it was added like that
+
+
+def test_a_damaged_index_is_one_line_and_a_failed_check(capsys, tmp_path):
+    lab = tmp_path / "lab"
+    (lab / "archive").mkdir(parents=True)
+    (lab / "archive" / "index.sqlite").write_text("not a database")
+    r = _record(tmp_path / "r.json", 0.5)
+    for argv in (["archive", "list"], ["archive", "add", str(r)]):
+        assert main([*argv, "--lab", str(lab)]) == 2
+        err = capsys.readouterr().err
+        assert "index" in err and len(err.strip().splitlines()) == 1
+    assert main(["archive", "check", "--lab", str(lab)]) == 1
+    assert "cannot be read" in capsys.readouterr().out

@@ -73,6 +73,8 @@ def test_drift_and_scores_of_the_example(capsys):
     (["monitor", "chart", "--series", "check-magnet", "--baseline", "1"], "baseline"),
     (["monitor", "drift", "PX-3"], "--quantity"),
     (["monitor", "drift", "FC-9", "--limit", "-1"], "--limit"),
+    (["monitor", "drift", "FC-9", "--k", "0"], "--k"),
+    (["monitor", "chart", "--series", "check-magnet", "--ewma", "2"], "lambda"),
 ])
 def test_monitor_errors_are_one_line(capsys, argv, words):
     assert main([*argv, "--lab", str(EXAMPLE_LAB)]) == 2
