@@ -12,6 +12,8 @@ import sys
 import textwrap
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from fieldbudget.cli import main
 from fieldbudget.engine import Budget, InputQuantity, Measurand
@@ -275,3 +277,31 @@ def test_a_damaged_index_is_one_line_and_a_failed_check(capsys, tmp_path):
         assert "index" in err and len(err.strip().splitlines()) == 1
     assert main(["archive", "check", "--lab", str(lab)]) == 1
     assert "cannot be read" in capsys.readouterr().out
+
+
+@pytest.fixture(scope="module")
+def small_archive(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("prop")
+    archive = Archive(tmp / "lab")
+    for i in range(3):
+        archive.add(_record(tmp / f"p{i}.json", 0.2 * (i + 1)))
+    return archive
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(which=st.integers(0, 2), where=st.floats(0, 1, exclude_max=True), delta=st.integers(1, 255))
+def test_any_changed_byte_of_any_archived_record_is_found(small_archive, which, where, delta):
+    e = small_archive.entries()[which]
+    path = small_archive.path_of(e)
+    data = path.read_bytes()
+    i = int(where * len(data))
+    changed = data[:i] + bytes([(data[i] + delta) % 256]) + data[i + 1:]
+    make_writable(path)
+    try:
+        path.write_bytes(changed)
+        check = small_archive.check()
+        assert not check.intact and any(p.seq == e.seq for p in check.problems)
+    finally:
+        path.write_bytes(data)
+        os.chmod(path, stat.S_IRUSR | stat.S_IRGRP | stat.S_IROTH)
+    assert small_archive.check().intact
