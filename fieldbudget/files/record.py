@@ -77,7 +77,7 @@ __all__ = [
     "verify_record",
 ]
 
-SCHEMA_VERSION = "1.0"
+SCHEMA_VERSION = "1.1"  # 1.1 adds the optional identification, findings, acceptance, measurement
 SCHEMA_MAJOR = 1
 RECORD_KIND = "fieldbudget record"
 
@@ -465,15 +465,20 @@ def _edition_from_values(content: Mapping) -> int | None:
 def _procedure_dict(procedure: Any) -> dict | None:
     if procedure is None:
         return None
+    pid = None
     if isinstance(procedure, Mapping):
-        name, version = procedure.get("name"), procedure.get("version", "")
+        name, version, pid = procedure.get("name"), procedure.get("version", ""), procedure.get("id")
     elif isinstance(procedure, (tuple, list)) and len(procedure) == 2:
         name, version = procedure
     else:
         name, version = getattr(procedure, "name", None), getattr(procedure, "version", "")
+        pid = getattr(procedure, "id", None)
     if not isinstance(name, str) or not name:
         raise InputError("procedure", procedure, "a procedure with a name and a version, or None", "make_record")
-    return {"name": name, "version": str(version)}
+    out = {"name": name, "version": str(version)}
+    if isinstance(pid, str) and pid:
+        out["id"] = pid
+    return out
 
 
 def _as_budget(budget: Any):
@@ -504,7 +509,7 @@ def _validate(gum, mc):
 
 def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None, operator: str = "",
                 remarks: str = "", procedure: Any = None, previous: Record | None = None,
-                created_utc: str | None = None) -> Record:
+                created_utc: str | None = None, details: Mapping | None = None) -> Record:
     """Evaluate ``budget`` and return its :class:`Record` (not yet saved).
 
     Parameters
@@ -526,6 +531,11 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         revision number + 1, its digest, and the list of changes.
     created_utc : str, optional
         Time stamp (ISO 8601, UTC, ``Z``); now by default.
+    details : mapping, optional
+        The optional keys of schema 1.1 (``identification``, ``findings``,
+        ``acceptance``, ``measurement``); see :mod:`fieldbudget.files.record_details`,
+        which builds them.  The evaluation's own warnings are always kept as
+        ``findings`` too.
     """
     from ..engine import evaluate
 
@@ -543,7 +553,7 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
                          "make_record")
     gum_d = _jsonable(gum.to_dict(), "#/results/gum")
 
-    mc_d = val_d = mc_settings = None
+    mc_d = val_d = mc_settings = mc = None
     if monte_carlo is not None:
         if isinstance(monte_carlo, bool) or not (isinstance(monte_carlo, int) or hasattr(monte_carlo, "to_dict")):
             raise InputError("monte_carlo", monte_carlo, "a number of trials (int), a Monte Carlo result, or None",
@@ -572,12 +582,16 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         revision, prev_digest = previous.revision + 1, previous.digest
         changes = budget_changes(previous.budget, content)
 
+    from .record_details import merge_details
+
+    extra = merge_details(details, gum.warnings, getattr(mc, "warnings", ()) if mc_d is not None else (),
+                          operator=operator, metadata=content.get("metadata"))
     rec = Record(
         budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d,
         monte_carlo_settings=mc_settings,
         codata_edition=_edition_of(content), software=software_versions(), procedure=_procedure_dict(procedure),
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
-        previous_digest=prev_digest, changes=tuple(changes),
+        previous_digest=prev_digest, changes=tuple(changes), extra=extra,
     )
     return _with_digest(rec)
 

@@ -59,7 +59,7 @@ def test_round_trip_save_load_verify(tmp_path, mc_record):
 
 def test_record_holds_what_the_issue_lists(mc_record):
     d = mc_record.to_dict()
-    assert d["schema_version"] == SCHEMA_VERSION == "1.0"
+    assert d["schema_version"] == SCHEMA_VERSION == "1.1"
     assert d["budget"] == Budget.from_dict(nmr_budget()).to_dict()
     assert set(d["software"]) >= {"fieldbudget", "numpy", "scipy", "uncertainties", "python"}
     assert d["codata_edition"] == 2022

@@ -244,7 +244,7 @@ def test_record_and_measurement_file_of_a_run(run, tmp_path):
     again = NMRMeasurement.from_file(path).evaluate()
     assert again.standard_uncertainty == run.result.standard_uncertainty
     rec = run.make_record()
-    assert rec.procedure == {"name": "Reference field by proton NMR", "version": "1.0"}
+    assert rec.procedure == {"name": "Reference field by proton NMR", "version": "1.0", "id": "nmr-reference-field"}
     assert rec.operator == "A. Tester"
     assert rec.remarks == "Procedure nmr-reference-field v1.0: every acceptance limit met."
     from fieldbudget.files.record import save_record
