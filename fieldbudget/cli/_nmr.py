@@ -30,6 +30,10 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..files.budget_file import read_json
+    from ..files.measurement_record import refuse_other_kind
+
+    refuse_other_kind(read_json(args.file), args.file, ("nmr",), "nmr")
     measurement = NMRMeasurement.from_file(args.file)
     result = measurement.evaluate()
     if args.budget_out:

@@ -658,6 +658,11 @@ def parse_record_text(data: bytes, where: str) -> dict:
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")
+    from .measurement_record import KINDS, document_kind
+
+    kind = document_kind(doc)
+    if kind and kind != "record":
+        raise RecordError(f"{where}: this is {KINDS[kind][0]}, not a record: use {KINDS[kind][1]}")
     version = doc.get("schema_version")
     if not isinstance(version, str):
         raise RecordError(f"{where}: not a fieldbudget record: no text 'schema_version' "
@@ -866,6 +871,11 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
         checks.append(Check("budget", "fail", f"the recorded budget no longer loads: {err}"))
         return VerifyResult(tuple(checks), where)
     checks.append(Check("budget", "pass", "the recorded budget content loads"))
+    from .measurement_record import check_measurement
+
+    measured = check_measurement(record)
+    if measured is not None:
+        checks.append(Check("measurement", *measured))
     try:
         fresh = evaluate(budget).to_dict()
     except FieldbudgetError as err:
