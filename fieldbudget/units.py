@@ -189,3 +189,19 @@ def parse_quantity(text: str, where: str = "quantity") -> tuple[float, str]:
     except InputError:
         raise InputError("quantity", text, f"a number followed by a unit, the unit {_allowed_text()}", where) from None
     return value, unit
+
+
+def quotient_unit(numerator: str, denominator: str) -> str | None:
+    """The unit of numerator/denominator simplified by pint (``"T", "MHz/T"`` -> ``"T²/MHz"``), or None.
+
+    Used for the unit of a sensitivity coefficient c_i = dy/dx_i; None when
+    pint does not know one of the units (the caller then writes the quotient
+    as text).
+    """
+    try:
+        ureg = _registry()
+        q = ureg.parse_units(numerator or "dimensionless") / ureg.parse_units(denominator or "dimensionless")
+    except Exception:  # pint raises many kinds of errors for a unit it cannot parse or divide
+        return None
+    text = format(q, "~P")
+    return text or "1"

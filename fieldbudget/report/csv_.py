@@ -10,7 +10,7 @@ from .tables import ReportData
 __all__ = ["CSV_COLUMNS", "render_csv"]
 
 CSV_COLUMNS = ("symbol", "estimate", "unit", "distribution", "stated_as", "stated_value", "divisor", "u_x", "dof",
-               "sensitivity", "u_contribution", "variance_share", "source", "reference")
+               "sensitivity", "sensitivity_unit", "u_contribution", "variance_share", "source", "reference")
 
 
 def _num(x) -> str:
@@ -24,5 +24,21 @@ def render_csv(data: ReportData) -> str:
     for r in data.rows:
         w.writerow((r.symbol, _num(r.estimate), r.unit, r.distribution, r.how_stated, _num(r.stated),
                     _num(r.divisor), _num(r.u_x), "inf" if r.dof is None else _num(r.dof), _num(r.sensitivity),
-                    _num(r.u_contribution), _num(r.share), r.source, r.reference))
+                    r.sensitivity_unit, _num(r.u_contribution), _num(r.share), r.source, r.reference))
+    # the correlation and second-order terms and the total, so that the shares add up to 1
+    for s in data.summary_rows:
+        w.writerow((s.label, "", "", "", "", "", "", "", "", "", "", "", _num(s.share), "", ""))
+    # the result rows: the headline first (Monte Carlo when the GUM result failed its validation)
+    gum = ("result: GUM" + ("" if data.headline_kind == "gum" else " (not validated by Monte Carlo, JCGM 101 clause 8)"),
+           _num(data.value), data.unit, "", "", "", "", _num(data.u), "inf" if data.nu_eff is None else _num(data.nu_eff),
+           "", "", "", "", f"k = {data.k!r}, U = {data.U!r}", "")
+    rows = [gum]
+    if data.mc_result is not None:
+        y, u, lo, hi = data.mc_result
+        label = "result: Monte Carlo" + (" (headline)" if data.headline_kind == "monte_carlo" else "")
+        mc = (label, _num(y), data.unit, "", "", "", "", _num(u), "", "", "", "", "",
+              f"probabilistically symmetric coverage interval [{lo!r}, {hi!r}]", "")
+        rows = [mc, gum] if data.headline_kind == "monte_carlo" else [gum, mc]
+    for row in rows:
+        w.writerow(row)
     return buf.getvalue()
