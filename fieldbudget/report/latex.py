@@ -16,7 +16,7 @@ from .tables import ReportData
 
 __all__ = ["render_latex"]
 
-_HEADS = ("Input", "$x_i$", "Unit", "Distribution", "Stated as", "$u(x_i)$", "$\\nu_i$", "$c_i$", "Unit of $c_i$",
+_HEADS = ("Input", "$x_i$", "Unit", "Stated as (distribution)", "$u(x_i)$", "$\\nu_i$", "$c_i$ (unit)",
           "$|u_i(y)|$", "Share / \\%", "Source")
 
 

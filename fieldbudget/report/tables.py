@@ -73,9 +73,9 @@ def stated_uncertainty(spec: Mapping) -> tuple[str, float | None, float | None, 
 def stated_text(spec: Mapping) -> str:
     """How the input's uncertainty was stated, with its numbers: ``"U = 75 (k = 3)"``, ``"a = 2e-06, rectangular"``."""
     if "u" in spec:
-        return f"u = {fmt(_float(spec['u']), 4)}"
+        return f"u = {fmt(_float(spec['u']), 4)}, normal"
     if "expanded" in spec:
-        return f"U = {fmt(_float(spec['expanded']), 4)} (k = {fmt(_float(spec.get('k')), 4)})"
+        return f"U = {fmt(_float(spec['expanded']), 4)} with k = {fmt(_float(spec.get('k')), 4)}, normal"
     if "half_width" in spec:
         kind = DISTRIBUTION_NAMES.get(spec.get("distribution", "rectangular"), spec.get("distribution", ""))
         extra = (f", limits known to ± {fmt(_float(spec.get('limit_uncertainty')), 3)}"
@@ -132,17 +132,18 @@ class BudgetRow:
         return self.u_x == 0.0
 
     def cells(self) -> tuple[str, ...]:
-        """Formatted cells, in the order of :data:`ReportData.COLUMNS`."""
+        """Formatted cells, in the order of :data:`ReportData.COLUMNS` (c_i with its unit)."""
+        c = "" if self.sensitivity is None else fmt(self.sensitivity, 4)
+        if c and self.sensitivity_unit and self.sensitivity_unit != "1":
+            c = f"{c} {self.sensitivity_unit}"
         return (
             self.symbol,
             "" if self.estimate is None else fmt(self.estimate, 12),
             self.unit,
-            self.distribution,
             self.stated_as,
             "" if self.u_x is None else fmt(self.u_x, 3),
             fmt_dof(self.dof),
-            "" if self.sensitivity is None else fmt(self.sensitivity, 4),
-            self.sensitivity_unit,
+            c,
             "" if self.u_contribution is None else fmt(abs(self.u_contribution), 3),
             "" if self.share is None else f"{100.0 * self.share:.1f}",
             self.source,
@@ -239,11 +240,10 @@ class ReportData:
     acceptance: tuple[tuple[str, str], ...] = ()
     mc_result: tuple[float, float, float, float] | None = None  # value, u, interval ends (Monte Carlo)
 
-    COLUMNS = ("symbol", "estimate", "unit", "distribution", "stated as", "u(x_i)", "dof", "c_i", "unit of c_i",
-               "|u_i(y)|", "share / %", "source")
-    COLUMN_TITLES = ("Input", "Estimate x_i", "Unit", "Distribution", "Stated as", "Standard uncertainty u(x_i)",
-                     "Degrees of freedom", "Sensitivity coefficient c_i", "Unit of c_i",
-                     "Contribution |c_i| u(x_i)", "Variance share / %", "Source")
+    COLUMNS = ("symbol", "estimate", "unit", "stated as", "u(x_i)", "dof", "c_i", "|u_i(y)|", "share / %", "source")
+    COLUMN_TITLES = ("Input", "Estimate x_i", "Unit", "Stated as (distribution)", "Standard uncertainty u(x_i)",
+                     "Degrees of freedom", "Sensitivity coefficient c_i (unit)", "Contribution |c_i| u(x_i)",
+                     "Variance share / %", "Source")
     DEFINED_TITLES = ("Input", "Value", "Unit", "Role", "Source")
 
     @property
@@ -307,7 +307,7 @@ class ReportData:
     def bars(self, width: float = 360.0) -> list[dict]:
         """Geometry of the variance-share bar chart (SVG user units), largest share first."""
         shares = [(r.symbol, r.share or 0.0) for r in self.rows]
-        shares += [(s.label.split(",")[0].split(" (")[0], s.share or 0.0) for s in self.summary_rows[:2]
+        shares += [(name, s.share or 0.0) for name, s in zip(("correlation", "second order"), self.summary_rows[:2])
                    if (s.share or 0.0) > 0]
         shares.sort(key=lambda t: -t[1])
         out = []
