@@ -547,8 +547,10 @@ def build_report_data(record, *, lab=None, coverage_wording: str = "stated") -> 
         acceptance.append(("verdict", word))
         for v in acc.get("verdicts") or ():
             if isinstance(v, Mapping):
-                acceptance.append((_text(v.get("limit") or v.get("text") or v.get("id")),
-                                   _text(v.get("verdict", v.get("met")))))
+                verdict = {True: "met", False: "NOT met"}.get(v.get("passed"), "not yet known")
+                value = fmt(_float(v.get("value"))) or "-"
+                acceptance.append((_text(v.get("text") or v.get("id")),
+                                   f"{_text(v.get('limit'))}: {value}, {verdict}".lstrip(": ")))
 
     checks = reference_checks(lab)
     unverified, checked = [], []

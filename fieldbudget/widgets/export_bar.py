@@ -28,10 +28,25 @@ def report_writers() -> tuple[str, ...]:
     return tuple(FORMATS)
 
 
-def _record(budget: Any, job: Any) -> Any:
+def _record(budget: Any, job: Any, draft: Any = None) -> Any:
+    """The record the bar saves or reports: as rich as the draft can make it.
+
+    A guided procedure (``draft.make_record``) names its operator, procedure
+    and acceptance results; an NMR form records its measurement description
+    itself (with its physics warnings); anything else records the budget.
+    """
     from ..files.record import make_record
 
     mc = job.result if job is not None and job.state == "done" and job.budget is budget else None
+    maker = getattr(draft, "make_record", None)
+    if callable(maker):
+        return maker(monte_carlo=mc)
+    m = getattr(draft, "measurement", None)
+    if m is not None and callable(getattr(m, "to_dict", None)) and getattr(m, "to_budget", None) is not None:
+        from ..files.measurement_record import make_measurement_record
+
+        return make_measurement_record(m.to_dict(), where=getattr(m, "where", "measurement"),
+                                       base_dir=getattr(m, "base_dir", "."), monte_carlo=mc)
     return make_record(budget, monte_carlo=mc, seed=mc.seed if mc is not None else None)
 
 
@@ -109,7 +124,7 @@ class ExportBar(w.VBox):
 
         fmt = self.report_format.value
         suffix = next(s for s, f in SUFFIXES.items() if f == fmt)
-        self._done(write_report(_record(self.draft.budget, self.job), self._target(suffix), to=fmt))
+        self._done(write_report(_record(self.draft.budget, self.job, self.draft), self._target(suffix), to=fmt))
 
     @guarded
     def _save_record(self, _button=None) -> None:
@@ -118,7 +133,7 @@ class ExportBar(w.VBox):
             return
         from ..files.record import save_record
 
-        self._done(save_record(_record(self.draft.budget, self.job), self._target(".record.json")))
+        self._done(save_record(_record(self.draft.budget, self.job, self.draft), self._target(".record.json")))
 
     def __repr__(self) -> str:
         return f"<ExportBar {self.path.value!r}, reports: {', '.join(self.writers) or 'none'}>"
