@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 
+from .._display import DOF_DISPLAY_LIMIT, fmt_dof
 from .tables import ReportData
 
 __all__ = ["CSV_COLUMNS", "render_csv"]
@@ -23,14 +24,14 @@ def render_csv(data: ReportData) -> str:
     w.writerow(CSV_COLUMNS)
     for r in data.rows:
         w.writerow((r.symbol, _num(r.estimate), r.unit, r.distribution, r.how_stated, _num(r.stated),
-                    _num(r.divisor), _num(r.u_x), "inf" if r.dof is None else _num(r.dof), _num(r.sensitivity),
+                    _num(r.divisor), _num(r.u_x), fmt_dof(r.dof) if r.dof is None or r.dof > DOF_DISPLAY_LIMIT else _num(r.dof), _num(r.sensitivity),
                     r.sensitivity_unit, _num(r.u_contribution), _num(r.share), r.source, r.reference))
     # the correlation and second-order terms and the total, so that the shares add up to 1
     for s in data.summary_rows:
         w.writerow((s.label, "", "", "", "", "", "", "", "", "", "", "", _num(s.share), "", ""))
     # the result rows: the headline first (Monte Carlo when the GUM result failed its validation)
     gum = ("result: GUM" + ("" if data.headline_kind == "gum" else " (not validated by Monte Carlo, JCGM 101 clause 8)"),
-           _num(data.value), data.unit, "", "", "", "", _num(data.u), "inf" if data.nu_eff is None else _num(data.nu_eff),
+           _num(data.value), data.unit, "", "", "", "", _num(data.u), fmt_dof(data.nu_eff),
            "", "", "", "", f"k = {data.k!r}, U = {data.U!r}", "")
     rows = [gum]
     if data.mc_result is not None:
@@ -41,4 +42,8 @@ def render_csv(data: ReportData) -> str:
         rows = [mc, gum] if data.headline_kind == "monte_carlo" else [gum, mc]
     for row in rows:
         w.writerow(row)
+    # the warnings on the result, each with the measurement-file key it concerns (in the reference column)
+    for f in data.findings:
+        w.writerow(("warning" if not f.invalid else "warning: the reading may be invalid", "", "", "", "", "", "", "",
+                    "", "", "", "", "", f.message, f.key or ""))
     return buf.getvalue()

@@ -26,6 +26,7 @@ from openpyxl import Workbook
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 
+from .._display import DOF_DISPLAY_LIMIT, fmt_dof
 from .tables import ReportData
 
 __all__ = ["BUDGET_SHEET", "CELLS", "render_xlsx"]
@@ -122,7 +123,7 @@ def render_xlsx(data: ReportData, record) -> bytes:
                 ws.cell(row=n, column=6, value=stated).fill = grey
                 ws.cell(row=n, column=7, value=1).fill = grey
                 ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
-        ws.cell(row=n, column=10, value="inf" if r.dof is None or math.isinf(r.dof) else r.dof)
+        ws.cell(row=n, column=10, value=r.dof if r.dof is not None and r.dof <= DOF_DISPLAY_LIMIT else fmt_dof(r.dof))
         ws.cell(row=n, column=11, value=r.sensitivity).fill = grey
         ws.cell(row=n, column=12, value=f"=ABS(K{n})*I{n}")
         ws.cell(row=n, column=13, value=f"=L{n}^2/{ucell}^2")
@@ -152,7 +153,7 @@ def render_xlsx(data: ReportData, record) -> bytes:
         ("sum of squares of u_i(y)", f"=SUMSQ(L{FIRST_ROW}:L{last})"),
         ("correlation terms, sum of 2 r c_i c_j u(x_i) u(x_j)", "=" + ("+".join(terms) if terms else "0")),
         ("combined standard uncertainty u_c", f"=SQRT(I{s}+I{s + 1}+I{s + 8})"),
-        ("effective degrees of freedom nu_eff (fieldbudget)", "inf" if data.nu_eff is None else data.nu_eff),
+        ("effective degrees of freedom nu_eff (fieldbudget)", fmt_dof(data.nu_eff)),
         ("coverage factor k (fieldbudget)", data.k),
         ("expanded uncertainty U = k u_c", f"=I{s + 4}*I{s + 2}"),
         ("u_c as computed by fieldbudget", data.u),
