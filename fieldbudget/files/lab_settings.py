@@ -32,6 +32,7 @@ __all__ = ["LAB_ENV", "SETTINGS_FILE", "ReferenceCheck", "lab_folder", "referenc
 LAB_ENV = "FIELDBUDGET_LAB"
 SETTINGS_FILE = "settings.toml"
 _KEYS = ("by", "date", "against")
+_MEANING = {"by": "who checked", "date": "when", "against": "the publication it was checked against"}
 
 
 @dataclass(frozen=True)
@@ -85,8 +86,7 @@ def reference_checks(lab: str | os.PathLike | None = None) -> dict[str, Referenc
             if hasattr(v, "isoformat"):  # a TOML date
                 v = v.isoformat()
             if not isinstance(v, str) or not v.strip():
-                raise BudgetFileError(str(path), f"{where}.{key}",
-                                      f"must be a non-empty text ({'who checked' if key == 'by' else 'when' if key == 'date' else 'the publication it was checked against'})")
+                raise BudgetFileError(str(path), f"{where}.{key}", f"must be a non-empty text ({_MEANING[key]})")
             entry = {**entry, key: v}
         extra = sorted(set(entry) - set(_KEYS))
         if extra:

@@ -23,14 +23,16 @@ def render_csv(data: ReportData) -> str:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(CSV_COLUMNS)
     for r in data.rows:
+        dof = fmt_dof(r.dof) if r.dof is None or r.dof > DOF_DISPLAY_LIMIT else _num(r.dof)  # "> 1000" everywhere
         w.writerow((r.symbol, _num(r.estimate), r.unit, r.distribution, r.how_stated, _num(r.stated),
-                    _num(r.divisor), _num(r.u_x), fmt_dof(r.dof) if r.dof is None or r.dof > DOF_DISPLAY_LIMIT else _num(r.dof), _num(r.sensitivity),
+                    _num(r.divisor), _num(r.u_x), dof, _num(r.sensitivity),
                     r.sensitivity_unit, _num(r.u_contribution), _num(r.share), r.source, r.reference))
     # the correlation and second-order terms and the total, so that the shares add up to 1
     for s in data.summary_rows:
         w.writerow((s.label, "", "", "", "", "", "", "", "", "", "", "", _num(s.share), "", ""))
     # the result rows: the headline first (Monte Carlo when the GUM result failed its validation)
-    gum = ("result: GUM" + ("" if data.headline_kind == "gum" else " (not validated by Monte Carlo, JCGM 101 clause 8)"),
+    marked = "" if data.headline_kind == "gum" else " (not validated by Monte Carlo, JCGM 101 clause 8)"
+    gum = ("result: GUM" + marked,
            _num(data.value), data.unit, "", "", "", "", _num(data.u), fmt_dof(data.nu_eff),
            "", "", "", "", f"k = {data.k!r}, U = {data.U!r}", "")
     rows = [gum]

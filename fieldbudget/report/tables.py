@@ -394,9 +394,9 @@ def _trace(record, equation: str, symbol: str) -> tuple[tuple[TraceLink, ...], l
     except FieldbudgetError as err:
         links.append(TraceLink("(inputs)", f"the recorded budget does not load, so no chain: {err}", ""))
         return tuple(links), []
-    for role, group in chain.by_role().items():
+    for group in chain.by_role().values():
         for link in group:
-            how = link.text if link.stated or link.role else link.text
+            how = link.text
             if link.role and not link.stated:
                 how += " (role derived from the data)"
             links.append(TraceLink(link.symbol, how, link.title))

@@ -20,7 +20,6 @@ traceability chain, software versions and the digest.
 from __future__ import annotations
 
 import io
-import math
 
 from openpyxl import Workbook
 from openpyxl.styles import Alignment, Font, PatternFill
