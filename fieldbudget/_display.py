@@ -10,7 +10,8 @@ import html
 import math
 from collections.abc import Iterable, Sequence
 
-__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "group_digits", "html_table", "text_table", "html_block",
+__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "group_digits", "html_table", "terminal_width", "text_table",
+           "html_block",
            "DOF_DISPLAY_LIMIT"]
 
 #: Effective degrees of freedom above this are shown as "> 1000" everywhere
@@ -135,14 +136,68 @@ def html_block(title: str, body_html: str, css_class: str = "fb-block") -> str:
     return f'<div class="{escape(css_class)}"><strong>{escape(title)}</strong>{body_html}</div>'
 
 
-def text_table(columns: Sequence[str], rows: Iterable[Sequence[object]]) -> str:
-    """A fixed-width plain-text table for terminals."""
+def terminal_width() -> int | None:
+    """The width to fit, in characters: ``COLUMNS`` when set, else the terminal's; None when not a terminal.
+
+    Output that goes to a file or a pipe is not wrapped (None), so it stays
+    one line per row for tools that read it.
+    """
+    import os
+    import shutil
+    import sys
+
+    env = os.environ.get("COLUMNS", "")
+    if env.isdigit() and int(env) > 0:
+        return int(env)
+    try:
+        if sys.stdout is not None and sys.stdout.isatty():
+            return shutil.get_terminal_size((100, 24)).columns
+    except (AttributeError, ValueError, OSError):
+        pass
+    return None
+
+
+def text_table(columns: Sequence[str], rows: Iterable[Sequence[object]], width: int | None = None) -> str:
+    """A fixed-width plain-text table for terminals.
+
+    Text columns wrap so that every line fits ``width`` characters (default:
+    :func:`terminal_width`, which honours ``COLUMNS``): the widest column whose
+    cells hold words (the source, first of all) gives way first, down to 8
+    characters, so a very narrow terminal gets lines longer than its width
+    rather than unreadable columns.  Numbers never wrap.
+    """
+    import textwrap
+
     rows = [[str(c) for c in r] for r in rows]
+    columns = [str(c) for c in columns]
+    n = len(columns)
     widths = [len(c) for c in columns]
     for r in rows:
         for i, c in enumerate(r):
             widths[i] = max(widths[i], len(c))
-    line = "  ".join(c.ljust(w) for c, w in zip(columns, widths))
+    limit = terminal_width() if width is None else int(width)
+    if limit is None:
+        limit = 10**9  # not a terminal: no wrapping
+    wrappable = [i for i in range(n) if any(" " in r[i] for r in rows if i < len(r))]
+    floor = 8
+    while sum(widths) + 2 * (n - 1) > limit:
+        candidates = [i for i in wrappable if widths[i] > floor]
+        if not candidates:
+            break
+        # the source column (last) gives way first, then the widest of the others
+        i = n - 1 if n - 1 in candidates and widths[n - 1] >= max(widths[j] for j in candidates) / 2 else \
+            max(candidates, key=lambda j: widths[j])
+        widths[i] -= 1
+
+    def lines_of(cells: Sequence[str]) -> list[str]:
+        parts = [textwrap.wrap(c, w, break_long_words=True) or [""] if len(c) > w else [c]
+                 for c, w in zip(cells, widths)]
+        height = max(len(p) for p in parts) if parts else 1
+        out = []
+        for k in range(height):
+            out.append("  ".join((p[k] if k < len(p) else "").ljust(w) for p, w in zip(parts, widths)).rstrip())
+        return out
+
     sep = "  ".join("-" * w for w in widths)
-    body = ["  ".join(c.ljust(w) for c, w in zip(r, widths)) for r in rows]
-    return "\n".join([line, sep, *body])
+    body = [text for r in rows for text in lines_of(r)]
+    return "\n".join([*lines_of(columns), sep, *body])

@@ -267,3 +267,17 @@ def unprefixed(text: str) -> str | None:
     name = parts[0][1]
     symbol = ureg.get_symbol(name)
     return symbol if symbol.isascii() else name
+def quotient_unit(numerator: str, denominator: str) -> str | None:
+    """The unit of numerator/denominator simplified by pint (``"T", "MHz/T"`` -> ``"T²/MHz"``), or None.
+
+    Used for the unit of a sensitivity coefficient c_i = dy/dx_i; None when
+    pint does not know one of the units (the caller then writes the quotient
+    as text).
+    """
+    try:
+        ureg = _registry()
+        q = ureg.parse_units(numerator or "dimensionless") / ureg.parse_units(denominator or "dimensionless")
+    except Exception:  # pint raises many kinds of errors for a unit it cannot parse or divide
+        return None
+    text = format(q, "~P")
+    return text or "1"

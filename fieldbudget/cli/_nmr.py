@@ -44,11 +44,14 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..files.measurement_record import refuse_other_kind
+
     if args.budget_out is not None:
         check_output(args.budget_out, inputs=(("measurement file", args.file),), force=args.force, what="budget")
     if args.record_out is not None:
         check_output(args.record_out, inputs=(("measurement file", args.file),), what="record")
     description = read_json(args.file)
+    refuse_other_kind(description, args.file, ("nmr",), "nmr")
     notes = ()
     if isinstance(description, dict):
         description, notes = resolve_measurement(args, description, args.file)

@@ -1,7 +1,9 @@
-"""``fieldbudget record FILE -o RECORD``: evaluate a budget file and archive its record.
+"""``fieldbudget record FILE -o RECORD``: evaluate a budget, NMR measurement or calibration file and archive its record.
 
-An existing file at ``-o`` is never replaced, except by its own next
-revision: ``-o R --previous R --reason TEXT`` (same measurand).
+The kind of file is recognised by its ``format`` (see
+:mod:`fieldbudget.files.measurement_record`).  An existing file at ``-o`` is
+never replaced, except by its own next revision: ``-o R --previous R --reason
+TEXT`` (same measurand).
 """
 
 from __future__ import annotations
@@ -9,9 +11,9 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError
-from ..files.budget_file import load_budget
 from ..files.guard import check_output, same_file
-from ..files.record import load_record, make_record, save_record
+from ..files.measurement_record import record_file
+from ..files.record import load_record, save_record
 from ._passphrase import add_passphrase_option, load_key
 
 __all__ = ["add_parser", "run"]
@@ -24,7 +26,7 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
                                    "stamp and a SHA-256 digest, signed with --sign. The file is written "
                                    "atomically and an existing file is never replaced, except by its own next "
                                    "revision (-o R --previous R --reason TEXT).")
-    p.add_argument("file", help="budget file (JSON)")
+    p.add_argument("file", help="budget file, NMR measurement file or calibration file (JSON)")
     p.add_argument("-o", "--output", required=True, metavar="RECORD", help="record file to write (JSON)")
     p.add_argument("--monte-carlo", type=int, metavar="M", default=None,
                    help="also propagate by Monte Carlo with M trials (JCGM 101) and record the run")
@@ -51,7 +53,7 @@ def run(args: argparse.Namespace) -> int:
     if args.previous is not None and not args.reason.strip():
         raise InputError("--reason", args.reason, "a text saying why this revision was made (with --previous)")
     own_revision = args.previous is not None and same_file(args.output, args.previous)
-    check_output(args.output, inputs=(("budget file", args.file),), record_ok=own_revision, force=True,
+    check_output(args.output, inputs=(("input file", args.file),), record_ok=own_revision, force=True,
                  what="record")
     from pathlib import Path
 
@@ -59,17 +61,12 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("-o", args.output, "a new file (records never replace a file; the next revision of "
                          "record R is written with -o R --previous R --reason TEXT)")
     key = load_key(args, args.sign) if args.sign else None
-    from ..files.budget_file import read_json  # noqa: I001
-    from ..files.calibration_file import FORMAT, load_calibration
-
-    doc = read_json(args.file)
-    if isinstance(doc, dict) and doc.get("format") == FORMAT:
-        budget = load_calibration(args.file)  # a calibration file: recorded with its points, curve and conformity
-    else:
-        budget = load_budget(args.file)
     previous = load_record(args.previous) if args.previous else None
-    rec = make_record(budget, monte_carlo=args.monte_carlo, seed=args.seed, operator=args.operator,
-                      remarks=args.remarks, previous=previous, reason=args.reason, sign=key)
+    kw = {"reason": args.reason} if args.reason else {}
+    if key is not None:
+        kw["sign"] = key
+    rec = record_file(args.file, monte_carlo=args.monte_carlo, seed=args.seed, operator=args.operator,
+                      remarks=args.remarks, previous=previous, **kw)
     path = save_record(rec, args.output)
     print(f"{path}: revision {rec.revision}, {rec.statement.split('. ')[0]}")
     if not hasattr(rec, "monte_carlo"):  # a calibration or several-output record
@@ -77,6 +74,10 @@ def run(args: argparse.Namespace) -> int:
         return 0
     if rec.monte_carlo:
         print(f"Monte Carlo: {rec.monte_carlo['trials']} trials, seed {rec.monte_carlo['seed']}")
+    from ..files.record_details import findings_of
+
+    for f in findings_of(rec):
+        print(f"warning: {f}")
     for c in rec.changes:
         print(f"changed: {c['change']} {c['what']}: {c['detail']}")
     for s in rec.signatures:

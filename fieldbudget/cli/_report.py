@@ -25,12 +25,22 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p.add_argument("--to", choices=FORMATS, default=None, help="format (default: from the suffix of -o)")
     p.add_argument("-o", "--output", required=True, metavar="FILE", help="report file to write")
     p.add_argument("--force", action="store_true", help="replace an existing report (never a record)")
+    p.add_argument("--fragment", action="store_true",
+                   help="latex only: the budget table alone (needs booktabs and longtable) instead of a complete "
+                        "document")
+    p.add_argument("--lab", metavar="DIR", default=None,
+                   help="laboratory folder whose settings.toml marks reference values as checked "
+                        "(default: $FIELDBUDGET_LAB)")
+    p.add_argument("--coverage-wording", choices=("stated", "approximate"), default="stated",
+                   help="'approximate' words a coverage probability near 95 %% as 'approximately 95 %%' "
+                        "(EA-4/02, ILAC P14); default: as stated ('about 95.45 %%')")
     return p
 
 
 def run(args: argparse.Namespace) -> int:
     check_output(args.output, inputs=(("record", args.record),), force=args.force, what="report")
     rec = load_record(args.record)
-    path = write_report(rec, args.output, to=args.to)
+    path = write_report(rec, args.output, to=args.to, fragment=args.fragment, lab=args.lab,
+                        coverage_wording=args.coverage_wording)
     print(f"{path}: {args.to or path.suffix.lstrip('.')} report of record {rec.digest[:12]}")
     return 0

@@ -67,7 +67,8 @@ def _load(name: str) -> dict:
         return tomllib.load(fh)
 
 
-def _record(name: str, entry: dict, edition: int | str, source: str, filename: str, aka: str = "") -> ReferenceValue:
+def _record(name: str, entry: dict, edition: int | str, source: str, filename: str, aka: str = "",
+            verification: str = "") -> ReferenceValue:
     """One data-file entry -> ReferenceValue, with the load-time checks of the file format."""
     where = f"{filename}: {name!r}"
     for key in ("value", "uncertainty", "unit"):
@@ -91,6 +92,8 @@ def _record(name: str, entry: dict, edition: int | str, source: str, filename: s
         valid_to=entry.get("valid_to"),
         valid_unit=entry.get("valid_unit", ""),
         aka=aka,
+        verification=entry.get("verification", verification),
+        defined=entry.get("defined", False) is True,
     )
 
 
@@ -125,7 +128,8 @@ def _codata_table(year: int) -> dict[str, ReferenceValue]:
             values[name] = {**entry, "value": exact}
     old_to_current = _old_to_current()
     return {
-        name: _record(name, entry, year, meta["source"], filename, aka=old_to_current.get(name, ""))
+        name: _record(name, entry, year, meta["source"], filename, aka=old_to_current.get(name, ""),
+                      verification=meta.get("verification", ""))
         for name, entry in values.items()
     }
 
@@ -252,12 +256,12 @@ def _iupac() -> dict[str, NuclearSpinData]:
         si, u_si = float(printed.scaleb(7)), float(u.scaleb(7))
         gamma = ReferenceValue(
             name=f"{iso} gyromag. ratio", value=si, uncertainty=u_si, unit="rad s^-1 T^-1",
-            edition=meta["edition"], source=meta["source"],
+            edition=meta["edition"], source=meta["source"], verification=meta.get("verification", ""),
             note=f"published as {entry['gamma']} x 10^7 rad s^-1 T^-1; {note}")
         over_2pi = ReferenceValue(
             name=f"{iso} gyromag. ratio in MHz/T", value=si / (2 * math.pi) / 1e6,
             uncertainty=u_si / (2 * math.pi) / 1e6, unit="MHz T^-1",
-            edition=meta["edition"], source=meta["source"],
+            edition=meta["edition"], source=meta["source"], verification=meta.get("verification", ""),
             note=f"gamma/2pi computed here from gamma = {entry['gamma']} x 10^7 rad s^-1 T^-1; {note}")
         out[iso] = NuclearSpinData(isotope=iso, spin=float(Fraction(entry["spin"])),
                                    gyromagnetic_ratio=gamma, gyromagnetic_ratio_over_2pi=over_2pi)

@@ -84,6 +84,13 @@ class ReferenceValue:
     aka : str
         The name the current CODATA tables use, when the edition's own table
         spells it differently (CODATA 2014 ``"... over 2 pi"``).
+    verification : str
+        How far the kit's copy was checked against the original publication
+        (``""`` when nothing is to be said); kept apart from ``source``, which
+        is the citation reports print.
+    defined : bool
+        A defined reference condition (exact by definition, e.g. the 25 degC
+        of the shielded-proton ratio), not a measured datum.
     """
 
     name: str
@@ -97,6 +104,8 @@ class ReferenceValue:
     valid_to: float | None = None
     valid_unit: str = ""
     aka: str = ""
+    verification: str = ""
+    defined: bool = False
 
     def __post_init__(self) -> None:
         where = f"reference value {self.name!r}" if isinstance(self.name, str) else "reference value"
@@ -114,7 +123,7 @@ class ReferenceValue:
             raise InputError("edition", self.edition, "a CODATA year or a non-empty edition label", where)
         if not isinstance(self.source, str) or not self.source.strip():
             raise InputError("source", self.source, "a non-empty text naming where the value comes from", where)
-        for attr in ("note", "valid_unit", "aka"):
+        for attr in ("note", "valid_unit", "aka", "verification"):
             if not isinstance(getattr(self, attr), str):
                 raise InputError(attr, getattr(self, attr), "a string", where)
         rng = (self.valid_from, self.valid_to)
@@ -178,6 +187,8 @@ class ReferenceValue:
             "valid_to": self.valid_to,
             "valid_unit": self.valid_unit,
             "aka": self.aka,
+            "verification": self.verification,
+            "defined": self.defined,
         }
 
     def __repr__(self) -> str:

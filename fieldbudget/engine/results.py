@@ -185,8 +185,11 @@ class BudgetResult:
     def report(self) -> str:
         """The budget as plain text (table, combined and expanded uncertainty, statement)."""
         m = self.measurand
-        lines = [f"Model: {self.budget.model.text()}", "",
-                 D.text_table(self.TABLE_COLUMNS, self.table_rows()), ""]
+        import textwrap
+
+        width = D.terminal_width() or 10**9  # not a terminal: no wrapping
+        lines = [*textwrap.wrap(f"Model: {self.budget.model.text()}", width, subsequent_indent="       "), "",
+                 D.text_table(self.TABLE_COLUMNS, self.table_rows(), width), ""]
         unit = f" {m.unit}" if m.unit else ""
         lines.append(f"{m.symbol} = {self.estimate:.12g}{unit}")
         lines.append(f"u_c = {self.standard_uncertainty:.4g}{unit}   nu_eff = {D.fmt_dof(self.effective_dof)}   "
@@ -202,17 +205,35 @@ class BudgetResult:
                 lines.append(f"u_c with second-order terms: {self.u_second_order:.4g}{unit}, for comparison only: the "
                              f"statement uses the first-order u_c = {self.standard_uncertainty:.4g}{unit}; set "
                              "\"second_order\": true in the budget to state the second-order value")
-        lines += ["", self.statement()]
-        if self.monte_carlo is not None:
-            lines += ["", f"Monte Carlo: {self.monte_carlo!r}"]
-        if self.validation is not None:
-            lines.append(f"Validation: {self.validation!r}")
-            advice = getattr(self.validation, "advice", "")
-            if advice:
-                lines.append(f"  {advice}")
+        v = self.validation
+        failed = v is not None and getattr(v, "passed", True) is False
+        mc = self.monte_carlo
+        if mc is not None and failed:
+            # JCGM 101:2008 clause 8: a GUM result that fails the check gives way to the Monte Carlo result
+            lo, hi = mc.interval
+            lines += ["", f"Result (Monte Carlo, JCGM 101; the GUM result below is NOT validated): "
+                          f"{m.symbol} = {D.fmt(mc.estimate, 12)}{unit}, u = {D.fmt(mc.standard_uncertainty, 3)}{unit}, "
+                          f"{100 * mc.coverage_probability:g} % coverage interval [{D.fmt(lo, 12)}, {D.fmt(hi, 12)}]"
+                          f"{unit}, M = {mc.trials}, seed {mc.seed}"]
+        lines += ["", ("GUM result, not validated: " if failed else "") + self.statement()]
+        if mc is not None and not failed:
+            lo, hi = mc.interval
+            lines += ["", f"Monte Carlo (JCGM 101): {m.symbol} = {D.fmt(mc.estimate, 12)}{unit}, "
+                          f"u = {D.fmt(mc.standard_uncertainty, 3)}{unit}, {100 * mc.coverage_probability:g} % "
+                          f"coverage interval [{D.fmt(lo, 12)}, {D.fmt(hi, 12)}]{unit}, M = {mc.trials}, seed {mc.seed}"]
+        if v is not None:
+            passed = getattr(v, "passed", False)
+            word = {True: "validated", False: "NOT validated"}.get(passed, "undecided")
+            lines.append(f"Validation (JCGM 101 clause 8): GUM result {word}; d_low = {D.fmt(v.d_low, 3)}{unit}, "
+                         f"d_high = {D.fmt(v.d_high, 3)}{unit}, tolerance delta = {D.fmt(v.delta, 3)}{unit}.")
+            lines += textwrap.wrap(v.advice, width)
         for w in self.warnings:
-            lines.append(f"warning: {w}")
-        return "\n".join(lines)
+            lines += textwrap.wrap(f"warning: {w}", width, subsequent_indent="  ")
+        out = []
+        for line in lines:
+            # the table keeps its own layout; every other line wraps at the terminal's width
+            out += [line] if "\n" in line or len(line) <= width else textwrap.wrap(line, width)
+        return "\n".join(out)
 
     def to_dataframe(self):
         """The budget table as a pandas DataFrame (needs pandas, which fieldbudget does not require)."""

@@ -24,9 +24,13 @@ def read_json(path: str | os.PathLike) -> object:
     return read_json_file(path)
 
 
-def load_budget(path: str | os.PathLike) -> Budget:
-    """Read a budget file."""
-    return Budget.from_dict(read_json(path), where=str(path))
+def load_budget(path: str | os.PathLike, command: str = "evaluate") -> Budget:
+    """Read a budget file; another kind of fieldbudget file gets a message saying what it is."""
+    from .measurement_record import refuse_other_kind
+
+    doc = read_json(path)
+    refuse_other_kind(doc, str(path), ("budget",), command)
+    return Budget.from_dict(doc, where=str(path))
 
 
 def save_budget(budget: Budget, path: str | os.PathLike) -> Path:

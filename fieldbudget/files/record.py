@@ -80,7 +80,7 @@ __all__ = [
     "verify_record",
 ]
 
-SCHEMA_VERSION = "1.1"
+SCHEMA_VERSION = "1.1"  # 1.1 adds the optional identification, findings, acceptance, measurement
 SCHEMA_MAJOR = 1
 RECORD_KIND = "fieldbudget record"
 
@@ -482,15 +482,20 @@ def _edition_from_values(content: Mapping) -> int | None:
 def _procedure_dict(procedure: Any) -> dict | None:
     if procedure is None:
         return None
+    pid = None
     if isinstance(procedure, Mapping):
-        name, version = procedure.get("name"), procedure.get("version", "")
+        name, version, pid = procedure.get("name"), procedure.get("version", ""), procedure.get("id")
     elif isinstance(procedure, (tuple, list)) and len(procedure) == 2:
         name, version = procedure
     else:
         name, version = getattr(procedure, "name", None), getattr(procedure, "version", "")
+        pid = getattr(procedure, "id", None)
     if not isinstance(name, str) or not name:
         raise InputError("procedure", procedure, "a procedure with a name and a version, or None", "make_record")
-    return {"name": name, "version": str(version)}
+    out = {"name": name, "version": str(version)}
+    if isinstance(pid, str) and pid:
+        out["id"] = pid
+    return out
 
 
 def _as_budget(budget: Any):
@@ -522,7 +527,7 @@ def _validate(gum, mc):
 def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None, operator: str = "",
                 remarks: str = "", procedure: Any = None, previous: Record | None = None,
                 created_utc: str | None = None, reason: str = "", sign: Any = None,
-                passphrase: str | None = None) -> Record:
+                passphrase: str | None = None, details: Mapping | None = None) -> Record:
     """Evaluate ``budget`` and return its :class:`Record` (not yet saved).
 
     Parameters
@@ -550,6 +555,11 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     sign : SigningKey or path of a key file, optional
         Sign the record (see :mod:`fieldbudget.files.signing`); ``passphrase``
         unlocks a protected key file.
+    details : mapping, optional
+        The optional keys of schema 1.1 (``identification``, ``findings``,
+        ``acceptance``, ``measurement``); see :mod:`fieldbudget.files.record_details`,
+        which builds them.  The evaluation's own warnings are always kept as
+        ``findings`` too.
     """
     from ..engine import evaluate
 
@@ -580,7 +590,7 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
                          "make_record")
     gum_d = _jsonable(gum.to_dict(), "#/results/gum")
 
-    mc_d = val_d = mc_settings = None
+    mc_d = val_d = mc_settings = mc = None
     if monte_carlo is not None:
         if isinstance(monte_carlo, bool) or not (isinstance(monte_carlo, int) or hasattr(monte_carlo, "to_dict")):
             raise InputError("monte_carlo", monte_carlo, "a number of trials (int), a Monte Carlo result, or None",
@@ -615,12 +625,16 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         changes = budget_changes(previous.budget, content)
         changes.append({"change": "revision reason", "what": f"revision {revision}", "detail": reason.strip()})
 
+    from .record_details import merge_details
+
+    extra = merge_details(details, gum.warnings, getattr(mc, "warnings", ()) if mc_d is not None else (),
+                          operator=operator, metadata=content.get("metadata"))
     rec = Record(
         budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d,
         monte_carlo_settings=mc_settings,
         codata_edition=_edition_of(content), software=software_versions(), procedure=_procedure_dict(procedure),
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
-        previous_digest=prev_digest, changes=tuple(changes),
+        previous_digest=prev_digest, changes=tuple(changes), extra=extra,
     )
     rec = _with_digest(rec)
     return sign_record(rec, key) if key is not None else rec
@@ -732,6 +746,11 @@ def parse_record_text(data: bytes, where: str) -> dict:
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")
+    from .measurement_record import KINDS, document_kind
+
+    kind = document_kind(doc)
+    if kind and kind != "record":
+        raise RecordError(f"{where}: this is {KINDS[kind][0]}, not a record: use {KINDS[kind][1]}")
     version = doc.get("schema_version")
     if not isinstance(version, str):
         raise RecordError(f"{where}: not a fieldbudget record: no text 'schema_version' "
@@ -1078,6 +1097,11 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
         checks.append(Check("budget", "fail", f"the recorded budget no longer loads: {err}"))
         return done()
     checks.append(Check("budget", "pass", "the recorded budget content loads"))
+    from .measurement_record import check_measurement
+
+    measured = check_measurement(record)
+    if measured is not None:
+        checks.append(Check("measurement", *measured))
     try:
         gum_result = evaluate(budget)
         fresh = gum_result.to_dict()

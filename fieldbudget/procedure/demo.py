@@ -26,6 +26,7 @@ DEMO_FILES = ("nmr-reference-field.toml", "counter-readings-2026-11-18.csv")
 #: What the demo operator enters besides the counter readings (invented).
 DEMO_ENTRIES = {
     "operator": "R. Okafor (invented)",
+    "measurement_id": "LMCL-2026-1118-01 (invented)",
     "magnet_current": 112.5,
     "sample_temperature": 22.4,
     "gradient": 2.0e-4,

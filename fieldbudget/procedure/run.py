@@ -508,30 +508,93 @@ class ProcedureRun:
         ``monte_carlo`` and ``seed`` are passed to
         :func:`fieldbudget.files.record.make_record` (a number of trials, or None);
         ``sign`` (a signing key or key file, with ``passphrase``) signs it.
+        The record carries the identification (operator, procedure, lab and the
+        run's ``record.`` values), the acceptance results and the physics
+        warnings; for an NMR procedure whose values are current it is the record
+        of the measurement itself (its description and the files it names).
+        The remark never says every limit was met when a check failed.
         """
         from ..files.record import make_record
 
         budget = self.last_budget
         if budget is None:
             raise InputError("budget", None, "evaluated first (enter every required value)", self._where)
-        verdict = {True: "every acceptance limit met", False: "an acceptance limit NOT met",
-                   None: "acceptance incomplete"}[self.check().accepted if self._current else None]
+        acceptance = self.check() if self._current else None
+        mc = None
+        if monte_carlo is not None and not hasattr(monte_carlo, "to_dict"):
+            import secrets
+
+            from ..engine import montecarlo as _mc
+
+            if isinstance(monte_carlo, bool) or not isinstance(monte_carlo, int) or monte_carlo < 1:
+                raise InputError("monte_carlo", monte_carlo, "a number of trials >= 1, or None", self._where)
+            seed = secrets.randbits(63) if seed is None else seed
+            mc = _mc.run(budget, trials=monte_carlo, seed=seed)
+        elif monte_carlo is not None:
+            mc = monte_carlo
+        remark = self._remark(acceptance, budget, mc)
         text = f"{remarks} " if remarks else ""
+        record_values = self.record_dict()
+        operator = str(record_values.get("operator", ""))
+        ident = {k: str(v) for k, v in record_values.items()
+                 if k in ("operator", "instrument", "probe", "customer", "item", "date", "id", "title")
+                 and isinstance(v, (str, int, float)) and not isinstance(v, bool)}
+        if getattr(self.procedure, "lab", ""):
+            ident.setdefault("lab", str(self.procedure.lab))
+        details: dict = {"identification": ident}
+        if acceptance is not None:
+            acc = acceptance.to_dict()
+            details["acceptance"] = {"procedure": acc["procedure"], "accepted": acc["accepted"],
+                                     "verdicts": acc["limits"]}
+        kw = dict(monte_carlo=mc, procedure=self.procedure, operator=operator, remarks=f"{text}{remark}")
         if self.procedure.kind == "teslameter-calibration":
             # a calibration record: points, covariance, curve, conformity and the certificate details
             from ..files.calibration_file import CalibrationFile
 
             base = Path(self.procedure.path).parent if self.procedure.path else Path(".")
             cal = CalibrationFile.from_dict(
-                self.measurement().calibration_file(self.record_dict().get("certificate")),
+                self.measurement().calibration_file(record_values.get("certificate")),
                 where=self._values_where, base_dir=base)
             return make_record(cal, monte_carlo=monte_carlo if isinstance(monte_carlo, int) else None, seed=seed,
-                               procedure=self.procedure, operator=str(self.record_dict().get("operator", "")),
-                               remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
-        return make_record(budget, monte_carlo=monte_carlo, seed=seed, procedure=self.procedure,
-                           operator=str(self.record_dict().get("operator", "")),
-                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.",
-                           sign=sign, passphrase=passphrase)
+                               procedure=self.procedure, operator=operator, remarks=f"{text}{remark}", sign=sign,
+                               passphrase=passphrase)
+        kw.update(sign=sign, passphrase=passphrase)
+        if self._current and self.procedure.kind == "nmr-field":
+            from ..files.measurement_record import make_measurement_record
+
+            base = Path(self.procedure.path).parent if self.procedure.path else Path(".")
+            return make_measurement_record(self.measurement_dict(), where=self._values_where, base_dir=base,
+                                           details=details, **kw)
+        outcome = self._outcome if self._current else None
+        details["findings"] = list(getattr(outcome, "warnings", ()) or ())
+        return make_record(budget, details=details, **kw)
+
+    def _remark(self, acceptance: AcceptanceReport | None, budget: Any, mc: Any) -> str:
+        """The kit's remark on the run: the acceptance verdict, and any check that failed, in words."""
+        head = f"Procedure {self.procedure.id} v{self.procedure.version}: "
+        if acceptance is None:
+            words = "acceptance incomplete"
+        else:
+            met = sum(v.passed is True for v in acceptance.verdicts)
+            n = len(acceptance.verdicts)
+            words = {True: "every acceptance limit met", False: f"an acceptance limit NOT met ({met} of {n} met)",
+                     None: f"acceptance incomplete ({met} of {n} limits met)"}[acceptance.accepted]
+        failed = []
+        if mc is not None:
+            from ..engine import evaluate, validation
+
+            check = validation.validate(evaluate(budget), mc)
+            if not check.passed:
+                failed.append("the GUM result did not pass its validation by Monte Carlo (JCGM 101 clause 8), "
+                              "so the Monte Carlo result is the one reported")
+        outcome = self._outcome if self._current else None
+        if any(getattr(w, "severity", "") == "invalid" for w in getattr(outcome, "warnings", ()) or ()):
+            failed.append("a physics check says the reading may be invalid")
+        if failed and acceptance is not None and acceptance.accepted:
+            words = f"the {len(acceptance.verdicts)} acceptance limits of the procedure were met, but "
+            return head + words + "; ".join(failed) + "."
+        return head + words + ("; " + "; ".join(failed) if failed else "") + "."
+
 
     # ------------------------------------------------------------ acceptance
     def check(self, result: Any = _LATEST) -> AcceptanceReport:

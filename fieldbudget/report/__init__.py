@@ -4,9 +4,12 @@
 >>> write_report(record, "budget.html")            # format from the suffix  # doctest: +SKIP
 >>> write_report(record, "budget.xlsx", to="xlsx")                         # doctest: +SKIP
 
-Each report shows the model equation, the budget table with sources, the
-rounded statement, the warnings, the traceability chain, the software
-versions and the record's digest.  The report layer imports no plotting
+Each report shows the identification of the measurement, the headline result
+(Monte Carlo when the GUM result fails its JCGM 101 clause 8 validation) with
+its warnings beside it, the GUM result and its validation, the model
+equation, the budget table with sources, the traceability chain built from
+the inputs' roles, the reference data not yet verified by the laboratory, the
+software versions and the record's digest.  The report layer imports no plotting
 library: charts are inline SVG.
 """
 
@@ -36,8 +39,15 @@ def _format(to: str | None, path: str | Path | None) -> str:
     return to
 
 
-def render(record, to: str) -> bytes:
-    """The report of ``record`` in format ``to`` (one of :data:`FORMATS`), as bytes (text is UTF-8)."""
+def render(record, to: str, *, fragment: bool = False, lab=None, coverage_wording: str = "stated") -> bytes:
+    """The report of ``record`` in format ``to`` (one of :data:`FORMATS`), as bytes (text is UTF-8).
+
+    ``fragment`` (LaTeX only): the budget table alone instead of a complete
+    document.  ``lab``: the laboratory folder whose ``settings.toml`` marks
+    reference values as checked (default ``$FIELDBUDGET_LAB``).
+    ``coverage_wording``: ``"stated"`` ("about 95.45 %") or ``"approximate"``
+    ("approximately 95 %", EA-4/02, ILAC P14).
+    """
     to = _format(to, None)
     if getattr(record, "kind", None) == "fieldbudget calibration record":
         # a calibration's report is its certificate
@@ -47,7 +57,9 @@ def render(record, to: str) -> bytes:
             raise InputError("report format", to, f"one of {', '.join(CERTIFICATE_FORMATS)} for a calibration "
                              "record (its certificate)", "report")
         return render_certificate(record, to)
-    data = build_report_data(record)
+    if fragment and to != "latex":
+        raise InputError("fragment", to, "asked for with the latex format only", "report")
+    data = build_report_data(record, lab=lab, coverage_wording=coverage_wording)
     if to == "html":
         from .html import render_html
         return render_html(data).encode("utf-8")
@@ -60,7 +72,7 @@ def render(record, to: str) -> bytes:
         return render_markdown(data).encode("utf-8")
     if to == "latex":
         from .latex import render_latex
-        return render_latex(data).encode("utf-8")
+        return render_latex(data, fragment=fragment).encode("utf-8")
     if to == "csv":
         from .csv_ import render_csv
         return render_csv(data).encode("utf-8")
@@ -68,7 +80,10 @@ def render(record, to: str) -> bytes:
     return render_xlsx(data, record)
 
 
-def write_report(record, path: str | Path, to: str | None = None) -> Path:
-    """Write the report of ``record`` to ``path`` (atomically); the format comes from ``to`` or the suffix."""
+def write_report(record, path: str | Path, to: str | None = None, **options) -> Path:
+    """Write the report of ``record`` to ``path`` (atomically); the format comes from ``to`` or the suffix.
+
+    ``options`` are those of :func:`render`.
+    """
     fmt = _format(to, path)
-    return atomic_write_bytes(path, render(record, fmt))
+    return atomic_write_bytes(path, render(record, fmt, **options))

@@ -40,6 +40,10 @@ _LATEX_MAP = {
     "±": r"\ensuremath{\pm}", "·": r"\ensuremath{\cdot}", "µ": r"\ensuremath{\mu}", "μ": r"\ensuremath{\mu}",
     "Ω": r"\ensuremath{\Omega}", "°": r"\ensuremath{^\circ}", "γ": r"\ensuremath{\gamma}",
     "σ": r"\ensuremath{\sigma}", "π": r"\ensuremath{\pi}", "×": r"\ensuremath{\times}", "−": "-", "\n": " ",
+    "²": r"\ensuremath{^2}", "³": r"\ensuremath{^3}", "Δ": r"\ensuremath{\Delta}", "δ": r"\ensuremath{\delta}",
+    "ν": r"\ensuremath{\nu}", "χ": r"\ensuremath{\chi}", "α": r"\ensuremath{\alpha}", "√": r"\ensuremath{\surd}",
+    "≤": r"\ensuremath{\leq}", "≥": r"\ensuremath{\geq}", "′": "'", "’": "'", "‘": "`", "“": "``", "”": "''",
+    "–": "--", "—": "---", "\u2009": r"\,", "\u00a0": "~", "Γ": r"\ensuremath{\Gamma}", "ρ": r"\ensuremath{\rho}",
 }
 _LATEX_RE = re.compile("|".join(re.escape(k) for k in _LATEX_MAP))
 

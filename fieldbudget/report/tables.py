@@ -1,10 +1,17 @@
 """The neutral content of a report, built once from a record and rendered by every format.
 
-A :class:`ReportData` holds plain text and numbers only: the model equation,
-the budget rows (with how each uncertainty was stated and its divisor), the
-result lines, the rounded statement, the warnings, the traceability chain, the
-software versions and the digest.  Each renderer (HTML, Markdown, LaTeX, CSV,
-XLSX, PDF) formats the same data, so the reports cannot disagree.
+A :class:`ReportData` holds plain text and numbers only: the identification
+of the measurement, the model equation, the headline result (the Monte Carlo
+one when the GUM result failed its JCGM 101 clause 8 validation, which then
+stands beside it marked not validated, with d_low, d_high, delta and the
+advice), the findings (warnings) placed next to the result, the budget rows
+(how each uncertainty was stated, u(x_i), sensitivity coefficients with their
+units; defined values with zero uncertainty apart; a correlation row and a
+second-order row so that the shares add up to 100 %), the traceability chain
+built from the inputs' roles (:mod:`fieldbudget.engine.traceability`), the
+reference data not yet verified by the laboratory, the software versions and
+the digest.  Each renderer (HTML, Markdown, LaTeX, CSV, XLSX, PDF) formats the
+same data, so the reports cannot disagree.
 
 Written by hand: the layout of an uncertainty budget is metrology, not
 something a table library knows.
@@ -13,12 +20,14 @@ something a table library knows.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
 from .._display import fmt, fmt_dof
 
-__all__ = ["DISTRIBUTION_NAMES", "BudgetRow", "ReportData", "TraceLink", "build_report_data", "stated_uncertainty"]
+__all__ = ["COVERAGE_WORDINGS", "DISTRIBUTION_NAMES", "BudgetRow", "FindingLine", "ReportData", "SummaryRow",
+           "TraceLink", "build_report_data", "sensitivity_unit", "stated_text", "stated_uncertainty"]
 
 # Words for the distribution kinds of the budget file (our own wording).
 DISTRIBUTION_NAMES = {
@@ -61,6 +70,39 @@ def stated_uncertainty(spec: Mapping) -> tuple[str, float | None, float | None, 
     return "as evaluated", None, None, ""
 
 
+def stated_text(spec: Mapping) -> str:
+    """How the input's uncertainty was stated, with its numbers: ``"U = 75 (k = 3)"``, ``"a = 2e-06, rectangular"``."""
+    if "u" in spec:
+        return f"u = {fmt(_float(spec['u']), 4)}, normal"
+    if "expanded" in spec:
+        return f"U = {fmt(_float(spec['expanded']), 4)} with k = {fmt(_float(spec.get('k')), 4)}, normal"
+    if "half_width" in spec:
+        kind = DISTRIBUTION_NAMES.get(spec.get("distribution", "rectangular"), spec.get("distribution", ""))
+        extra = (f", limits known to ± {fmt(_float(spec.get('limit_uncertainty')), 3)}"
+                 if "limit_uncertainty" in spec else "")
+        return f"half-width a = {fmt(_float(spec['half_width']), 4)}, {kind}{extra}"
+    if "readings" in spec:
+        return f"{len(spec['readings'])} readings (Type A)"
+    return "as evaluated"
+
+
+def sensitivity_unit(output_unit: str, input_unit: str) -> str:
+    """The unit of c_i = dy/dx_i, written from the two units (``"T/Hz"``; ``"1"`` when they are the same)."""
+    uy = (output_unit or "").strip()
+    ux = (input_unit or "").strip()
+    if ux in ("", "1"):
+        return uy or "1"
+    if uy == ux:
+        return "1"
+    from ..units import quotient_unit
+
+    simple = quotient_unit(uy, ux)
+    if simple:
+        return simple
+    den = f"({ux})" if any(ch in ux for ch in "/* ") else ux
+    return f"{uy or '1'}/{den}"
+
+
 @dataclass(frozen=True)
 class BudgetRow:
     """One input of the budget table (numbers in the input's unit; ``share`` 0..1)."""
@@ -80,29 +122,79 @@ class BudgetRow:
     share: float | None
     source: str
     reference: str
+    stated_as: str = ""
+    sensitivity_unit: str = ""
+    role: str = ""
+
+    @property
+    def defined(self) -> bool:
+        """A value with zero uncertainty (a defined value or an exact condition): shown apart."""
+        return self.u_x == 0.0
 
     def cells(self) -> tuple[str, ...]:
-        """Formatted cells, in the order of :data:`ReportData.COLUMNS`."""
+        """Formatted cells, in the order of :data:`ReportData.COLUMNS` (c_i with its unit)."""
+        c = "" if self.sensitivity is None else fmt(self.sensitivity, 4)
+        if c and self.sensitivity_unit and self.sensitivity_unit != "1":
+            c = f"{c} {self.sensitivity_unit}"
         return (
             self.symbol,
             "" if self.estimate is None else fmt(self.estimate, 12),
             self.unit,
-            self.distribution,
+            self.stated_as,
             "" if self.u_x is None else fmt(self.u_x, 3),
             fmt_dof(self.dof),
-            "" if self.sensitivity is None else fmt(self.sensitivity, 4),
+            c,
             "" if self.u_contribution is None else fmt(abs(self.u_contribution), 3),
             "" if self.share is None else f"{100.0 * self.share:.1f}",
             self.source,
         )
 
+    def defined_cells(self) -> tuple[str, ...]:
+        return (self.symbol, "" if self.estimate is None else fmt(self.estimate, 12), self.unit, self.role,
+                self.source)
+
+
+@dataclass(frozen=True)
+class SummaryRow:
+    """A row under the inputs: the correlation terms, the second-order terms, or the total (share 0..1)."""
+
+    label: str
+    variance: float
+    share: float | None
+
+    def cells(self) -> tuple[str, str]:
+        return self.label, "" if self.share is None else f"{100.0 * self.share:.1f}"
+
 
 @dataclass(frozen=True)
 class TraceLink:
-    """One link of the traceability chain: what, and how it is traceable."""
+    """One link of the traceability chain: what, how it is traceable, and its role's title."""
 
     what: str
     how: str
+    role: str = ""
+
+
+@dataclass(frozen=True)
+class FindingLine:
+    """One warning as a report prints it: the message and what it concerns."""
+
+    message: str
+    code: str = ""
+    key: str | None = None
+    severity: str = "warning"
+
+    @property
+    def invalid(self) -> bool:
+        return self.severity == "invalid"
+
+    def __str__(self) -> str:
+        return self.message
+
+
+#: How the coverage probability is worded in statements: as stated ("about 95.45 %"), or
+#: "approximately 95 %" as EA-4/02 and ILAC P14 word it for k = 2.
+COVERAGE_WORDINGS = ("stated", "approximate")
 
 
 @dataclass(frozen=True)
@@ -134,17 +226,62 @@ class ReportData:
     digest: str
     histogram: tuple[tuple[float, float, int], ...] = ()
     higher_order_variance: float = 0.0
+    correlation_variance: float = 0.0
+    findings: tuple[FindingLine, ...] = ()
+    identification: tuple[tuple[str, str], ...] = ()
+    headline_kind: str = "gum"
+    headline: tuple[tuple[str, str], ...] = ()
+    headline_text: str = ""
+    gum_validated: bool | None = None
+    validation: tuple[tuple[str, str], ...] = ()
+    advice: str = ""
+    unverified: tuple[tuple[str, str], ...] = ()
+    lab_checked: tuple[tuple[str, str], ...] = ()
+    acceptance: tuple[tuple[str, str], ...] = ()
+    mc_result: tuple[float, float, float, float] | None = None  # value, u, interval ends (Monte Carlo)
 
-    COLUMNS = ("symbol", "estimate", "unit", "distribution", "u(x_i)", "dof", "c_i", "|u_i(y)|", "share / %",
-               "source")
-    COLUMN_TITLES = ("Input", "Estimate x_i", "Unit", "Distribution", "Standard uncertainty u(x_i)",
-                     "Degrees of freedom", "Sensitivity coefficient c_i", "Contribution |c_i| u(x_i)",
+    COLUMNS = ("symbol", "estimate", "unit", "stated as", "u(x_i)", "dof", "c_i", "|u_i(y)|", "share / %", "source")
+    COLUMN_TITLES = ("Input", "Estimate x_i", "Unit", "Stated as (distribution)", "Standard uncertainty u(x_i)",
+                     "Degrees of freedom", "Sensitivity coefficient c_i (unit)", "Contribution |c_i| u(x_i)",
                      "Variance share / %", "Source")
+    DEFINED_TITLES = ("Input", "Value", "Unit", "Role", "Source")
+
+    @property
+    def uncertain_rows(self) -> tuple[BudgetRow, ...]:
+        return tuple(r for r in self.rows if not r.defined)
+
+    @property
+    def defined_rows(self) -> tuple[BudgetRow, ...]:
+        return tuple(r for r in self.rows if r.defined)
 
     def table_rows(self) -> list[tuple[str, ...]]:
-        return [r.cells() for r in self.rows]
+        """Cells of the inputs with an uncertainty (the defined values are in :meth:`defined_table_rows`)."""
+        return [r.cells() for r in self.uncertain_rows]
+
+    def defined_table_rows(self) -> list[tuple[str, ...]]:
+        return [r.defined_cells() for r in self.defined_rows]
+
+    @property
+    def summary_rows(self) -> tuple[SummaryRow, ...]:
+        """Correlation terms, second-order terms and the total, as shares of u_c^2."""
+        uc2 = self.u * self.u
+        share = (lambda v: v / uc2) if uc2 > 0 else (lambda v: None)
+        inputs = sum((r.share or 0.0) for r in self.rows)
+        rows = (
+            SummaryRow("correlation terms, sum of 2 c_i c_j u(x_i, x_j)", self.correlation_variance,
+                       share(self.correlation_variance)),
+            SummaryRow("second-order terms (JCGM 100:2008 5.1.2)", self.higher_order_variance,
+                       share(self.higher_order_variance)),
+        )
+        total = inputs + sum((r.share or 0.0) for r in rows) if uc2 > 0 else None
+        return (*rows, SummaryRow("total: u_c^2", uc2, total))
+
+    @property
+    def validated_or_none(self) -> bool:
+        return self.gum_validated is not False
 
     def result_lines(self) -> tuple[tuple[str, str], ...]:
+        """The GUM result's lines (the headline too, unless the Monte Carlo result replaces it)."""
         u = f" {self.unit}" if self.unit else ""
         p = "" if self.coverage_probability is None else f"{100.0 * self.coverage_probability:.2f} %"
         second = ((("second-order terms in u_c^2 (JCGM 100:2008 5.1.2)", f"{fmt(self.higher_order_variance, 4)}"
@@ -160,9 +297,18 @@ class ReportData:
             ("reported (rounded)", f"{self.symbol} = ({self.rounded_value} ± {self.rounded_U}){u}"),
         )
 
+    @property
+    def gum_heading(self) -> str:
+        if self.headline_kind == "monte_carlo":
+            word = "undecided" if self.gum_validated is None else "NOT validated"
+            return f"GUM result ({word} by Monte Carlo, JCGM 101 clause 8)"
+        return "GUM result"
+
     def bars(self, width: float = 360.0) -> list[dict]:
         """Geometry of the variance-share bar chart (SVG user units), largest share first."""
         shares = [(r.symbol, r.share or 0.0) for r in self.rows]
+        shares += [(name, s.share or 0.0) for name, s in zip(("correlation", "second order"), self.summary_rows[:2])
+                   if (s.share or 0.0) > 0]
         shares.sort(key=lambda t: -t[1])
         out = []
         for i, (sym, s) in enumerate(shares):
@@ -184,73 +330,134 @@ def _float(x: object) -> float | None:
         return None
 
 
-_TIMEBASE_HINTS = ("timebase", "time base", "frequency standard", "oscillator", "ocxo", "rubidium", "gps")
-_META_SKIP = {"codata", "codata_edition", "kind", "measurement_format", "id", "title", "nucleus",
-              "reference_condition"}
+def _decimals_for(u: float) -> int:
+    """Decimal places that keep two significant digits of u (JCGM 100:2008 7.2.6)."""
+    return max(0, 1 - math.floor(math.log10(abs(u)))) if u else 6
 
 
-def _is_timebase(sym: str, spec: Mapping) -> bool:
-    text = f"{sym} {spec.get('description', '')} {spec.get('source', '')}".lower()
-    return sym.startswith(("y_tb", "y_age")) or any(h in text for h in _TIMEBASE_HINTS[:3])
+def _fixed(x: float, decimals: int) -> str:
+    return f"{x:.{decimals}f}"
 
 
-def _trace_chain(budget: Mapping, gum: Mapping, edition: int | None, equation: str, symbol: str) -> list[TraceLink]:
-    """The traceability chain from what the budget carries.
+_P_WORDS = re.compile(r"about (\d+(?:\.\d+)?) %")
 
-    For an NMR budget (metadata from ``fieldbudget.nmr``): the field from the
-    resonance frequency, the frequency through the frequency standard (its
-    source names the calibration certificate), and the gyromagnetic ratio
-    through its CODATA edition.  Any other budget: each input's source.
+
+def _coverage_words(p: float | None, wording: str) -> str:
+    if p is None:
+        return ""
+    if wording == "approximate" and abs(p - 0.95) <= 0.0046:
+        return "approximately 95 %"
+    text = f"{100.0 * p:.2f}".rstrip("0").rstrip(".")
+    return f"about {text} %"
+
+
+def _reword(statement: str, p: float | None, wording: str) -> str:
+    """The statement with the coverage probability worded as asked (the numbers are left as they are)."""
+    if wording != "approximate" or p is None or abs(p - 0.95) > 0.0046:
+        return statement
+    return _P_WORDS.sub("approximately 95 %", statement)
+
+
+_ID_LABELS = (("id", "measurement id"), ("title", "title"), ("date", "date"), ("operator", "operator"),
+              ("procedure", "procedure"), ("lab", "laboratory"), ("instrument", "instrument"), ("probe", "probe"),
+              ("customer", "customer"), ("item", "item"))
+_ALWAYS = ("id", "title", "date", "operator", "procedure", "instrument", "probe")
+
+
+def _identification(record, title: str) -> tuple[tuple[str, str], ...]:
+    from ..files.record_details import identification_of
+
+    ident = identification_of(record)
+    proc = record.procedure
+    if proc:
+        ident["procedure"] = (f"{proc.get('name')}" + (f" (id {proc.get('id')})" if proc.get("id") else "")
+                              + f", version {proc.get('version')}")
+    ident.setdefault("title", title)
+    out = []
+    for key, label in _ID_LABELS:
+        v = ident.get(key, "")
+        if v or key in _ALWAYS:
+            out.append((label, v or "(not given)"))
+    return tuple(out)
+
+
+def _trace(record, equation: str, symbol: str) -> tuple[tuple[TraceLink, ...], list]:
+    """The chain from the inputs' roles, and the links whose estimate is reference data."""
+    from ..engine import Budget
+    from ..engine.traceability import traceability
+    from ..errors import FieldbudgetError
+    from ..files.record import budget_content
+
+    links = [TraceLink(symbol, f"from the model {equation}", "measurand")]
+    try:
+        chain = traceability(Budget.from_dict(budget_content(record), where="record budget"))
+    except FieldbudgetError as err:
+        links.append(TraceLink("(inputs)", f"the recorded budget does not load, so no chain: {err}", ""))
+        return tuple(links), []
+    for group in chain.by_role().values():
+        for link in group:
+            how = link.text
+            if link.role and not link.stated:
+                how += " (role derived from the data)"
+            links.append(TraceLink(link.symbol, how, link.title))
+    return tuple(links), list(chain.reference_data)
+
+
+def _monte_carlo_headline(record, symbol: str, unit: str, wording: str):
+    mc = record.monte_carlo
+    u_ = f" {unit}" if unit else ""
+    y, u = float(mc["value"]), float(mc["u"])
+    lo, hi = (float(x) for x in mc["interval"])
+    dec = _decimals_for(u)
+    p = _float(mc.get("coverage_probability")) or _float(record.gum.get("coverage_probability"))
+    pw = _coverage_words(p, wording)
+    lines = (
+        (f"estimate {symbol} (Monte Carlo)", f"{fmt(y, 12)}{u_}"),
+        (f"standard uncertainty u({symbol}) (Monte Carlo)", f"{fmt(u, 4)}{u_}"),
+        ("coverage probability p", "" if p is None else f"{100.0 * p:.2f} %"),
+        ("probabilistically symmetric coverage interval", f"[{fmt(lo, 12)}, {fmt(hi, 12)}]{u_}"),
+        ("reported (rounded)", f"{symbol} = {_fixed(y, dec)}{u_}, u = {fmt(u, 2)}{u_}, "
+                               f"interval [{_fixed(lo, dec)}, {_fixed(hi, dec)}]{u_}"),
+        ("trials M, seed", f"{mc.get('trials')}, {mc.get('seed')}"),
+    )
+    text = (f"{symbol} = {_fixed(y, dec)}{u_} with standard uncertainty u({symbol}) = {fmt(u, 2)}{u_}; "
+            f"the probabilistically symmetric coverage interval for a coverage probability of {pw} is "
+            f"[{_fixed(lo, dec)}, {_fixed(hi, dec)}]{u_}. These are the results of the Monte Carlo method "
+            f"(JCGM 101:2008, {mc.get('trials')} trials, seed {mc.get('seed')}), reported because the GUM result "
+            "did not pass the validation of JCGM 101:2008 clause 8 (see below).")
+    return lines, text
+
+
+def _validation_lines(val: Mapping, unit: str) -> tuple[tuple[tuple[str, str], ...], str]:
+    u_ = f" {unit}" if unit else ""
+    ok = val.get("validated")
+    gi, mi = val.get("gum_interval") or (), val.get("mc_interval") or ()
+    lines = [("GUM result validated (JCGM 101:2008 clause 8)",
+              "yes" if ok is True else "no" if ok is False else "undecided")]
+    if len(gi) == 2:
+        lines.append(("GUM interval y ± U", f"[{fmt(_float(gi[0]), 12)}, {fmt(_float(gi[1]), 12)}]{u_}"))
+    if len(mi) == 2:
+        lines.append((f"Monte Carlo interval ({val.get('interval_kind', 'probabilistically symmetric')})",
+                      f"[{fmt(_float(mi[0]), 12)}, {fmt(_float(mi[1]), 12)}]{u_}"))
+    for key, label in (("d_low", "d_low"), ("d_high", "d_high"), ("delta", "numerical tolerance δ")):
+        if key in val:
+            lines.append((label, f"{fmt(_float(val[key]), 3)}{u_}"))
+    return tuple(lines), _text(val.get("advice"))
+
+
+def build_report_data(record, *, lab=None, coverage_wording: str = "stated") -> ReportData:
+    """Turn a :class:`~fieldbudget.files.record.Record` into :class:`ReportData`.
+
+    ``lab`` is the laboratory folder whose ``settings.toml`` marks reference
+    values as checked (default: ``$FIELDBUDGET_LAB``); ``coverage_wording`` is
+    one of :data:`COVERAGE_WORDINGS`.
     """
-    md = budget.get("metadata") if isinstance(budget.get("metadata"), Mapping) else {}
-    inputs = budget.get("inputs") if isinstance(budget.get("inputs"), Mapping) else {}
-    links = [TraceLink(symbol, f"from the model {equation}")]
-    nucleus = md.get("nucleus")
-    condition = md.get("reference_condition")
-    timebase = [(s, q) for s, q in inputs.items() if isinstance(q, Mapping) and _is_timebase(s, q)]
-    tb_text = "; ".join(_text(q.get("source")) for _, q in timebase if q.get("source"))
-    cert = next((md[k] for k in ("frequency_standard_certificate", "certificate") if md.get(k)), None)
-    std = next((md[k] for k in ("frequency_standard", "time_base") if md.get(k)), None)
-    if std or cert:
-        tb_text = "; ".join(t for t in (tb_text, _text(std), f"certificate {cert}" if cert else "") if t)
-    for sym, spec in inputs.items():
-        if not isinstance(spec, Mapping):
-            continue
-        unit = _text(spec.get("unit"))
-        src = _text(spec.get("source"))
-        ref = spec.get("reference")
-        if ref:
-            ed = f"CODATA {edition}" if edition is not None else "CODATA (edition not identified)"
-            extra = ", ".join(_text(x) for x in (nucleus, condition) if x)
-            links.append(TraceLink(sym, f"{ed} recommended value '{ref}' = {fmt(_float(spec.get('value')), 12)} "
-                                        f"{unit}".rstrip() + (f" ({extra})" if extra else "")))
-        elif (sym, spec) in timebase:
-            links.append(TraceLink(sym, f"frequency standard: {src}" if src else "frequency standard"))
-        elif unit.lower() in ("hz", "khz", "mhz") and (_float(spec.get("value")) or "readings" in spec):
-            how = f"measured frequency ({src})" if src else "measured frequency"
-            if tb_text:
-                how += f", traceable to the SI second through the frequency standard: {tb_text}"
-            links.append(TraceLink(sym, how))
-        elif src:
-            links.append(TraceLink(sym, src))
-    flat: list[tuple[str, object]] = []
-    for key in sorted(md):
-        v = md[key]
-        if key in _META_SKIP or key in ("frequency_standard", "time_base", "frequency_standard_certificate",
-                                        "certificate"):
-            continue
-        if isinstance(v, Mapping):
-            flat.extend((f"{key} {k}", x) for k, x in sorted(v.items()))
-        else:
-            flat.append((key, v))
-    for key, v in flat:
-        if isinstance(v, (str, int, float)) and not isinstance(v, bool):
-            links.append(TraceLink(key.replace("_", " "), str(v)))
-    return links
+    from ..errors import InputError
+    from ..files.lab_settings import reference_checks
+    from ..files.record_details import acceptance_of, findings_of
 
-
-def build_report_data(record) -> ReportData:
-    """Turn a :class:`~fieldbudget.files.record.Record` into :class:`ReportData`."""
+    if coverage_wording not in COVERAGE_WORDINGS:
+        raise InputError("coverage wording", coverage_wording, f"one of {', '.join(COVERAGE_WORDINGS)}", "report")
     budget = record.budget
     gum = record.gum
     m = record.measurand
@@ -263,26 +470,34 @@ def build_report_data(record) -> ReportData:
         text = _text(model or gum.get("model"))
         equation = text if "=" in text.replace("==", "") else f"{symbol} = {text}"
     inputs = budget.get("inputs") if isinstance(budget.get("inputs"), Mapping) else {}
+    trace, reference_links = _trace(record, equation, symbol)
+    role_of = {t.what: t.role for t in trace[1:]}
     rows = []
     for c in gum.get("contributions") or ():
         sym = _text(c.get("symbol"))
         spec = inputs.get(sym, {}) if isinstance(inputs.get(sym, {}), Mapping) else {}
         how, stated, divisor, dtext = stated_uncertainty(spec)
         kind = _text(c.get("distribution")) or _text(spec.get("distribution")) or "normal"
+        in_unit = _text(c.get("unit") or spec.get("unit"))
         rows.append(BudgetRow(
-            symbol=sym, estimate=_float(c.get("estimate")), unit=_text(c.get("unit") or spec.get("unit")),
+            symbol=sym, estimate=_float(c.get("estimate")), unit=in_unit,
             distribution=DISTRIBUTION_NAMES.get(kind, kind), how_stated=how, stated=stated, divisor=divisor,
             divisor_text=dtext, u_x=_float(c.get("u_x")), dof=_float(c.get("dof")),
             sensitivity=_float(c.get("sensitivity")), u_contribution=_float(c.get("u_contribution")),
             share=_float(c.get("share")), source=_text(c.get("source") or spec.get("source")),
-            reference=_text(spec.get("reference")),
+            reference=_text(spec.get("reference")), stated_as=stated_text(spec),
+            sensitivity_unit=sensitivity_unit(unit, in_unit), role=role_of.get(sym, ""),
         ))
     corr = tuple((str(a), str(b), float(r)) for a, b, r in (budget.get("correlations") or ()))
     rounded = gum.get("rounded") or {}
     rv = _text(rounded.get("value_text", rounded.get("value", "")))
     ru = _text(rounded.get("uncertainty_text", rounded.get("U", rounded.get("uncertainty", ""))))
+    p = _float(gum.get("coverage_probability"))
 
     mc_lines: list[tuple[str, str]] = []
+    validation: tuple[tuple[str, str], ...] = ()
+    advice = ""
+    validated = None
     if record.monte_carlo:
         mc = record.monte_carlo
         u_ = f" {unit}" if unit else ""
@@ -298,8 +513,17 @@ def build_report_data(record) -> ReportData:
             mc_lines.append(("probabilistically symmetric coverage interval",
                              f"[{fmt(_float(iv[0]), 10)}, {fmt(_float(iv[1]), 10)}]{u_}"))
         if record.validation is not None:
-            ok = record.validation.get("validated")
-            mc_lines.append(("GUM validated by Monte Carlo (JCGM 101 clause 8)", "yes" if ok else "no"))
+            validated = record.validation.get("validated")
+            validated = validated if isinstance(validated, bool) else None
+            validation, advice = _validation_lines(record.validation, unit)
+
+    statement = _reword(_text(gum.get("statement")), p, coverage_wording)
+    headline_kind = "gum"
+    headline: tuple[tuple[str, str], ...] = ()
+    headline_text = statement
+    if record.monte_carlo and record.validation is not None and validated is not True:
+        headline_kind = "monte_carlo"
+        headline, headline_text = _monte_carlo_headline(record, symbol, unit, coverage_wording)
 
     details = [
         ("revision", str(record.revision)),
@@ -308,29 +532,73 @@ def build_report_data(record) -> ReportData:
         ("CODATA edition", str(record.codata_edition) if record.codata_edition is not None else "none used"),
     ]
     if record.procedure:
-        details.append(("procedure", f"{record.procedure.get('name')} version {record.procedure.get('version')}"))
+        pid = f" (id {record.procedure.get('id')})" if record.procedure.get("id") else ""
+        details.append(("procedure", f"{record.procedure.get('name')}{pid} version {record.procedure.get('version')}"))
     if record.previous_digest:
         details.append(("previous revision SHA-256", record.previous_digest))
     if record.remarks:
         details.append(("remarks", record.remarks))
 
+    acc = acceptance_of(record)
+    acceptance: list[tuple[str, str]] = []
+    if acc:
+        word = {True: "every acceptance limit met", False: "an acceptance limit NOT met"}.get(
+            acc.get("accepted"), "acceptance incomplete")
+        acceptance.append(("verdict", word))
+        for v in acc.get("verdicts") or ():
+            if isinstance(v, Mapping):
+                verdict = {True: "met", False: "NOT met"}.get(v.get("passed"), "not yet known")
+                value = fmt(_float(v.get("value"))) or "-"
+                acceptance.append((_text(v.get("text") or v.get("id")),
+                                   f"{_text(v.get('limit'))}: {value}, {verdict}".lstrip(": ")))
+
+    checks = reference_checks(lab)
+    unverified, checked = [], []
+    seen = set()
+    for link in reference_links:
+        if link.reference in seen:
+            continue
+        seen.add(link.reference)
+        if link.reference in checks:
+            c = checks[link.reference]
+            checked.append((link.reference, f"checked by {c.by} on {c.date} against {c.against}"))
+        else:
+            unverified.append((link.reference, link.verification or "no remark in the kit's data file"))
+
+    findings = tuple(FindingLine(f.message, f.code, f.key, f.severity) for f in findings_of(record))
     software = tuple((k, _text(v)) for k, v in sorted(record.software.items()))
     nu = _float(gum.get("nu_eff"))
+    title = _text(budget.get("title")) or f"Uncertainty budget for {symbol}"
     return ReportData(
-        title=_text(budget.get("title")) or f"Uncertainty budget for {symbol}",
+        title=title,
         symbol=symbol, unit=unit, description=_text(m.get("description")), equation=equation,
         rows=tuple(rows), correlations=corr,
         value=float(gum["value"]), u=float(gum["u"]), k=float(gum["k"]), U=float(gum["U"]), nu_eff=nu,
-        coverage_probability=_float(gum.get("coverage_probability")),
-        rounded_value=rv, rounded_U=ru, statement=_text(gum.get("statement")),
-        warnings=tuple(_text(w) for w in (gum.get("warnings") or ())) +
-        tuple(_text(w) for w in ((record.monte_carlo or {}).get("warnings") or ())),
-        trace=tuple(_trace_chain(budget, gum, record.codata_edition, equation, symbol)),
-        monte_carlo=tuple(mc_lines), details=tuple(details),
+        coverage_probability=p,
+        rounded_value=rv, rounded_U=ru, statement=statement,
+        warnings=tuple(f.message for f in findings),
+        trace=trace, monte_carlo=tuple(mc_lines), details=tuple(details),
         changes=tuple((_text(c.get("change")), _text(c.get("what")), _text(c.get("detail"))) for c in record.changes),
         software=software, digest=record.digest, histogram=_histogram(record.monte_carlo),
         higher_order_variance=float(gum.get("higher_order_variance") or 0.0),
+        correlation_variance=float(gum.get("correlation_variance") or 0.0),
+        findings=findings, identification=_identification(record, title),
+        headline_kind=headline_kind, headline=headline or _gum_headline(symbol, unit, rv, ru, p, coverage_wording),
+        headline_text=headline_text, gum_validated=validated, validation=validation, advice=advice,
+        unverified=tuple(unverified), lab_checked=tuple(checked), acceptance=tuple(acceptance),
+        mc_result=_mc_numbers(record.monte_carlo),
     )
+
+
+def _mc_numbers(mc) -> tuple[float, float, float, float] | None:
+    if not mc or len(mc.get("interval") or ()) != 2:
+        return None
+    return float(mc["value"]), float(mc["u"]), float(mc["interval"][0]), float(mc["interval"][1])
+
+
+def _gum_headline(symbol, unit, rv, ru, p, wording) -> tuple[tuple[str, str], ...]:
+    u_ = f" {unit}" if unit else ""
+    return ((f"{symbol}", f"({rv} ± {ru}){u_}"), ("coverage probability", _coverage_words(p, wording)))
 
 
 def _histogram(mc) -> tuple[tuple[float, float, int], ...]:

@@ -20,12 +20,12 @@ traceability chain, software versions and the digest.
 from __future__ import annotations
 
 import io
-import math
 
 from openpyxl import Workbook
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 
+from .._display import DOF_DISPLAY_LIMIT, fmt_dof
 from .tables import ReportData
 
 __all__ = ["BUDGET_SHEET", "CELLS", "render_xlsx"]
@@ -34,7 +34,7 @@ BUDGET_SHEET = "Budget"
 FIRST_ROW = 6
 _HEADS = ("Input", "Estimate x_i", "Unit", "Distribution", "Stated as", "Stated value", "Divisor",
           "Limit uncertainty d", "u(x_i)", "Degrees of freedom", "Sensitivity c_i", "u_i(y) = |c_i| u(x_i)",
-          "Variance share", "Source")
+          "Variance share", "Source", "Unit of c_i")
 # Column letters by meaning (documented for the tests and for the assessor).
 CELLS = {"estimate": "B", "stated": "F", "divisor": "G", "limit": "H", "u_x": "I", "dof": "J", "c": "K",
          "u_y": "L", "share": "M"}
@@ -67,6 +67,9 @@ def render_xlsx(data: ReportData, record) -> bytes:
     ws["A2"] = "Model"
     _t(ws["B2"], data.equation)
     ws["A3"], ws["B3"] = "Record SHA-256", data.digest
+    ws["D3"] = "Result reported" if data.headline_kind == "gum" else "Result reported (Monte Carlo)"
+    ws["D3"].font = bold
+    ws["E3"] = _safe_text(data.headline_text)
     ws["A4"] = ("Grey cells are inputs; u(x_i), u_i(y), u_c and U are formulas. "
                 "c_i and k are the values fieldbudget computed.")
     for j, h in enumerate(_HEADS, start=1):
@@ -122,11 +125,12 @@ def render_xlsx(data: ReportData, record) -> bytes:
                 ws.cell(row=n, column=6, value=stated).fill = grey
                 ws.cell(row=n, column=7, value=1).fill = grey
                 ws.cell(row=n, column=9, value=f"=F{n}/G{n}")
-        ws.cell(row=n, column=10, value="inf" if r.dof is None or math.isinf(r.dof) else r.dof)
+        ws.cell(row=n, column=10, value=r.dof if r.dof is not None and r.dof <= DOF_DISPLAY_LIMIT else fmt_dof(r.dof))
         ws.cell(row=n, column=11, value=r.sensitivity).fill = grey
         ws.cell(row=n, column=12, value=f"=ABS(K{n})*I{n}")
         ws.cell(row=n, column=13, value=f"=L{n}^2/{ucell}^2")
         _t(ws.cell(row=n, column=14), r.source)
+        _t(ws.cell(row=n, column=15), r.sensitivity_unit)
 
     # correlation coefficients, as input cells
     corr_first = last + 12
@@ -151,7 +155,7 @@ def render_xlsx(data: ReportData, record) -> bytes:
         ("sum of squares of u_i(y)", f"=SUMSQ(L{FIRST_ROW}:L{last})"),
         ("correlation terms, sum of 2 r c_i c_j u(x_i) u(x_j)", "=" + ("+".join(terms) if terms else "0")),
         ("combined standard uncertainty u_c", f"=SQRT(I{s}+I{s + 1}+I{s + 8})"),
-        ("effective degrees of freedom nu_eff (fieldbudget)", "inf" if data.nu_eff is None else data.nu_eff),
+        ("effective degrees of freedom nu_eff (fieldbudget)", fmt_dof(data.nu_eff)),
         ("coverage factor k (fieldbudget)", data.k),
         ("expanded uncertainty U = k u_c", f"=I{s + 4}*I{s + 2}"),
         ("u_c as computed by fieldbudget", data.u),
@@ -164,14 +168,29 @@ def render_xlsx(data: ReportData, record) -> bytes:
         ws.cell(row=s + j, column=1, value=label).font = bold if j in (2, 5) else Font()
         ws.cell(row=s + j, column=9, value=value)
     ws.cell(row=s + 4, column=9).fill = grey
-    for col, width in zip("ABCDEFGHIJKLMN", (28, 16, 8, 16, 18, 14, 10, 10, 14, 10, 14, 14, 10, 40)):
+    # shares of the correlation and second-order terms, so that column M adds up to 1
+    ws.cell(row=s + 1, column=13, value=f"=I{s + 1}/{ucell}^2")
+    ws.cell(row=s + 8, column=13, value=f"=I{s + 8}/{ucell}^2")
+    ws.cell(row=s + 9, column=1, value="sum of the variance shares (inputs, correlation, second order)").font = bold
+    ws.cell(row=s + 9, column=13, value=f"=SUM(M{FIRST_ROW}:M{last})+M{s + 1}+M{s + 8}")
+    for col, width in zip("ABCDEFGHIJKLMNO", (28, 16, 8, 16, 18, 14, 10, 10, 14, 10, 14, 14, 10, 40, 12)):
         ws.column_dimensions[col].width = width
 
     info = wb.create_sheet("Record")
-    lines = [("Statement", data.statement)]
+    head = "Result" if data.headline_kind == "gum" else "Result (Monte Carlo; the GUM result is not validated)"
+    lines = [(k, v) for k, v in data.identification]
+    lines += [(head, data.headline_text)]
+    lines += [(f"Result: {k}", v) for k, v in data.headline] if data.headline_kind == "monte_carlo" else []
+    lines += [(f"Warning{' (concerns ' + f.key + ')' if f.key else ''}", f.message) for f in data.findings] \
+        or [("Warnings", "none")]
+    lines += [("Statement" if data.headline_kind == "gum" else "Statement (GUM, not validated)", data.statement)]
     lines += list(data.result_lines())
-    lines += [("Warning", w) for w in data.warnings] or [("Warnings", "none")]
-    lines += [(f"Traceability: {t.what}", t.how) for t in data.trace]
+    lines += [(f"Validation: {k}", v) for k, v in data.validation]
+    lines += [("Validation: advice", data.advice)] if data.advice else []
+    lines += [(f"Acceptance: {k}", v) for k, v in data.acceptance]
+    lines += [(f"Traceability: {t.what} ({t.role})" if t.role else f"Traceability: {t.what}", t.how) for t in data.trace]
+    lines += [(f"Reference data not yet verified by the laboratory: {n}", r) for n, r in data.unverified]
+    lines += [(f"Reference data verified by the laboratory: {n}", r) for n, r in data.lab_checked]
     lines += [(f"Monte Carlo: {k}", v) for k, v in data.monte_carlo]
     lines += list(data.details)
     lines += [(f"Change: {c} {w}", x) for c, w, x in data.changes]

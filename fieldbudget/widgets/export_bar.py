@@ -29,13 +29,26 @@ def report_writers() -> tuple[str, ...]:
 
 
 def _record(budget: Any, job: Any, draft: Any = None, sign: Any = None) -> Any:
+    """The record the bar saves or reports: as rich as the draft can make it.
+
+    A guided procedure (``draft.make_record``) names its operator, procedure
+    and acceptance results; an NMR form records its measurement description
+    itself (with its physics warnings); anything else records the budget.
+    ``sign`` (a key) signs the record.
+    """
     from ..files.record import make_record
 
     mc = job.result if job is not None and job.state == "done" and job.budget is budget else None
     seed = mc.seed if mc is not None else None
     maker = getattr(draft, "make_record", None)
-    if callable(maker):  # a procedure run names itself in its record (a calibration: the calibration record)
-        return maker(monte_carlo=mc, seed=seed, sign=sign) if sign is not None else maker(monte_carlo=mc, seed=seed)
+    if callable(maker):
+        return maker(monte_carlo=mc, sign=sign) if sign is not None else maker(monte_carlo=mc)
+    m = getattr(draft, "measurement", None)
+    if m is not None and callable(getattr(m, "to_dict", None)) and getattr(m, "to_budget", None) is not None:
+        from ..files.measurement_record import make_measurement_record
+
+        return make_measurement_record(m.to_dict(), where=getattr(m, "where", "measurement"),
+                                       base_dir=getattr(m, "base_dir", "."), monte_carlo=mc, sign=sign)
     return make_record(budget, monte_carlo=mc, seed=seed, sign=sign)
 
 

@@ -130,6 +130,7 @@ class _ExportSource:
         return self.run.save_measurement(path)
 
     def make_record(self, **kw):
+        # the run names its operator, procedure and acceptance results in the record
         return self.run.make_record(**kw)
 
 

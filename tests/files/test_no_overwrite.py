@@ -63,7 +63,7 @@ def test_next_revision_needs_the_same_measurand(lab, capsys):
 def test_output_equal_to_an_input_is_refused(lab, capsys):
     d, b, rec = lab
     assert main(["record", str(b), "-o", str(b)]) == 2
-    assert "is the budget file this command reads" in _err(capsys)
+    assert "is the input file this command reads" in _err(capsys)
     assert main(["report", str(rec), "-o", str(rec), "--to", "md"]) == 2
     assert "is the record this command reads" in _err(capsys)
     # through another spelling of the same path

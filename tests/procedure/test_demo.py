@@ -48,7 +48,7 @@ def test_demo_command_writes_its_files(tmp_path, capsys):
     assert "invented data for the demo" in printed
     assert "[met] Relative expanded uncertainty at most 0.5 ppm" in printed
     record = load_record(out / "demo-record.json")          # digest checked on load
-    assert record.procedure == {"name": "Reference field by proton NMR", "version": "1.0"}
+    assert record.procedure == {"name": "Reference field by proton NMR", "version": "1.0", "id": "nmr-reference-field"}
     assert record.operator == "R. Okafor (invented)"
     assert json.loads((out / "demo-acceptance.json").read_text())["accepted"] is True
     check = verify_record(out / "demo-record.json")      # an assessor's re-check of the demo record

@@ -70,7 +70,7 @@ def test_reprs_are_one_line():
     for obj in (proc, proc.steps[0], proc.components[0], proc.acceptance[0]):
         r = repr(obj)
         assert "\n" not in r and r.startswith("<")
-    assert repr(proc.steps[2]) == "<Step 'lock': Lock on the resonance and read the frequency (5 components)>"
+    assert repr(proc.steps[2]) == "<Step 'lock': Lock on the resonance and read the frequency (6 components)>"
     assert repr(proc.acceptance[3]) == "<AcceptanceLimit 'temperature': 18 <= sample_temperature <= 28>"
 
 

@@ -45,7 +45,9 @@ def test_measurement_dict_equals_hand_written(run):
     assert run.measurement_dict() == expected
     assert json.loads(json.dumps(run.measurement_dict())) == expected
     # Record-only values stay out of the measurement.
-    assert run.record_dict() == {"operator": "", "magnet_current_A": 112.5}
+    assert run.record_dict() == {"operator": "", "id": "", "magnet_current_A": 112.5,
+                                 "instrument": "NMR magnetometer LX-7 s/n LX7-0088 (invented)",
+                                 "probe": "proton probe PX-3 s/n PX3-2291 (invented)"}
 
 
 def test_missing_value_is_named(run):
@@ -68,7 +70,7 @@ def test_steps_next_back_go(run):
     run.next()
     assert run.step.id == "lock"
     assert [c.id for c in run.step_components()] == ["line_fwhm", "line_snr", "frequency_readings",
-                                                        "line_points", "counter_resolution"]
+                                                        "line_points", "counter_resolution", "instrument"]
     run.go("review")
     assert run.is_last
     run.next()
@@ -134,7 +136,7 @@ def test_entered_is_read_only(run):
 
 
 def test_repr_and_to_dict(run):
-    assert repr(run) == "<ProcedureRun 'nmr-reference-field' step 1/5 'prepare', 7 entered, 1 missing>"
+    assert repr(run) == "<ProcedureRun 'nmr-reference-field' step 1/5 'prepare', 8 entered, 1 missing>"
     run.set_training(True)
     assert repr(run).endswith(", training>")
     d = run.to_dict()
@@ -244,7 +246,7 @@ def test_record_and_measurement_file_of_a_run(run, tmp_path):
     again = NMRMeasurement.from_file(path).evaluate()
     assert again.standard_uncertainty == run.result.standard_uncertainty
     rec = run.make_record()
-    assert rec.procedure == {"name": "Reference field by proton NMR", "version": "1.0"}
+    assert rec.procedure == {"name": "Reference field by proton NMR", "version": "1.0", "id": "nmr-reference-field"}
     assert rec.operator == "A. Tester"
     assert rec.remarks == "Procedure nmr-reference-field v1.0: every acceptance limit met."
     from fieldbudget.files.record import save_record

@@ -28,7 +28,7 @@ def test_run_saves_a_verified_calibration_record_and_a_certificate(run, tmp_path
     rec = run.make_record()
     d = rec.to_dict()
     assert d["kind"] == "fieldbudget calibration record"
-    assert d["procedure"] == {"name": run.procedure.name, "version": run.procedure.version}
+    assert {k: d["procedure"][k] for k in ("name", "version")} == {"name": run.procedure.name, "version": run.procedure.version}
     assert "every acceptance limit met" in d["remarks"]
     path = save_record(rec, tmp_path / "cal.record.json")
     v = verify_record(path)

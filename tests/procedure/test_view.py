@@ -31,7 +31,7 @@ def test_builds_on_the_first_step(view):
     assert view.run.step.id == "prepare"
     assert "Step 1 of 5: Prepare the magnet area" in view.step_title.value
     assert view.back_button.disabled and not view.next_button.disabled
-    assert set(view.rows) == {"operator", "magnet_current"}
+    assert set(view.rows) == {"operator", "measurement_id", "magnet_current"}
     assert "pacemakers" in view.safety.value and "local regulations" in view.safety.value
     assert "Implanted medical devices" in view.step_cautions.value
     assert "still to enter: Locked resonance frequency" in view.status.value
@@ -152,3 +152,29 @@ def test_export_bar_saves_the_runs_budget_and_measurement(view, tmp_path):
     assert saved == view.run.last_budget.to_dict()
     bar.measurement_button.click()
     assert json.loads((tmp_path / "nmr-reference-field.measurement.json").read_text()) == view.run.measurement_dict()
+
+
+def test_export_bar_record_names_operator_procedure_and_acceptance(tmp_path):
+    """Regression: a record saved from the guided procedure had an empty operator and no procedure."""
+    import json
+
+    from fieldbudget.procedure.demo import DEMO_ENTRIES, demo_run
+
+    run = demo_run()
+    run.evaluate()
+    view = ProcedureView(run)
+    try:
+        view.export.folder = tmp_path
+        view.export.record_button.click()
+        assert "saved" in view.export.status.value, view.export.status.value
+        saved = next(tmp_path.glob("*.record.json"))
+        rec = json.loads(saved.read_text(encoding="utf-8"))
+    finally:
+        view.close() if hasattr(view, "close") else None
+    assert rec["operator"] == DEMO_ENTRIES["operator"]
+    assert rec["procedure"] == {"name": run.procedure.name, "id": run.procedure.id, "version": run.procedure.version}
+    assert rec["identification"]["operator"] == DEMO_ENTRIES["operator"]
+    assert rec["identification"]["id"] == DEMO_ENTRIES["measurement_id"]
+    assert rec["identification"]["probe"] and rec["identification"]["instrument"]
+    assert rec["acceptance"]["accepted"] is True and len(rec["acceptance"]["verdicts"]) == len(run.procedure.acceptance)
+    assert rec["measurement"]["description"] == run.measurement_dict()

@@ -47,9 +47,12 @@ def test_each_report_shows_what_an_assessor_needs(texts, nmr_record, fmt):
     head = nmr_record.statement.split(". ")[0]
     assert esc(head) in text
     assert nmr_record.gum["rounded"]["U"] in text
-    # traceability: the frequency through the frequency standard and its certificate, the ratio through CODATA
-    assert esc("traceable to the SI second through the frequency standard") in text
+    # traceability from the roles: the timebase through its certificate (stated role), the ratio through
+    # CODATA (derived from its reference), the frequency as measured (no role stated: none is invented)
+    assert esc("calibration: certificate BFSL-F-2291, issued by Brackwater Field Standards Laboratory, "
+               "dated 2026-02-11") in text
     assert esc("CODATA 2022 recommended value 'shielded proton gyromag. ratio in MHz/T'") in text
+    assert esc("role not stated; source given: counter CT-88 s/n 1190, 10 readings") in text
     # software versions and the digest
     for name in ("fieldbudget", "numpy", "scipy", "uncertainties"):
         assert esc(name) in text and nmr_record.software[name] in text
@@ -110,8 +113,14 @@ def test_latex_escape_table():
 
 
 def test_csv_is_the_budget_table_at_full_precision(nmr_record, texts):
-    rows = list(csv.DictReader(io.StringIO(texts["csv"])))
+    table = list(csv.DictReader(io.StringIO(texts["csv"])))
+    rows = table[:3]
     assert [r["symbol"] for r in rows] == ["f", "y_tb", "gp"]
+    assert [r["sensitivity_unit"] for r in rows] == ["T/Hz", "T", "T²/MHz"]
+    # the correlation and second-order rows and the total: the shares add up to 1 (common practice)
+    labels = [r["symbol"] for r in table[3:6]]
+    assert labels[0].startswith("correlation") and labels[1].startswith("second-order") and labels[2].startswith("total")
+    assert sum(float(r["variance_share"]) for r in table[:5]) == pytest.approx(1.0, abs=1e-12)
     for r, c in zip(rows, nmr_record.gum["contributions"]):
         assert float(r["u_x"]) == c["u_x"] and float(r["sensitivity"]) == c["sensitivity"]
         assert float(r["u_contribution"]) == c["u_contribution"] and float(r["variance_share"]) == c["share"]
@@ -205,8 +214,8 @@ def test_pdf_without_chromium_is_a_clear_error(monkeypatch, nmr_record):
 
 
 def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
-    """An NMR measurement file (invented lab) -> budget -> record -> report: the chain names the
-    counter, the frequency standard with its certificate, and the CODATA edition of gamma'_p."""
+    """An NMR measurement file (invented lab) -> budget -> record -> report: the chain comes from the
+    roles: the readings as measured, gamma'_p as a CODATA constant, the water data as published data."""
     from pathlib import Path
 
     from fieldbudget.files.record import save_record, verify_record
@@ -218,10 +227,15 @@ def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
     m = NMRMeasurement.from_file(data)
     rec = make_record(m.to_budget(), created_utc=STAMP)
     assert rec.codata_edition == m.codata
-    trace = {t.what: t.how for t in build_report_data(rec).trace}
-    assert "calibration certificate BFSL-F-2291" in trace["f_read"]
-    assert "traceable to the SI second through the frequency standard" in trace["f_read"]
+    chain = build_report_data(rec).trace
+    trace = {t.what: t.how for t in chain}
+    role = {t.what: t.role for t in chain}
+    assert role["f_read"] == "measured (Type A)"
     assert trace["gamma_p_sh"].startswith(f"CODATA {m.codata} recommended value 'shielded proton gyromag. ratio")
+    # regression: the water data were called "CODATA 2022 recommended value"
+    for sym in ("alpha_T", "chi"):
+        assert role[sym] == "published data" and "CODATA" not in trace[sym]
+    assert trace["alpha_T"].startswith("published data: B. W. Petley, R. W. Donaldson")
     assert verify_record(save_record(rec, tmp_path / "nmr.record.json")).passed
 
 

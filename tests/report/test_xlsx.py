@@ -74,6 +74,8 @@ def test_xlsx_formulas_give_the_engine_uncertainties_to_12_digits(tmp_path, name
         assert math.isclose(_cell(values, f"M{n}"), c["share"], rel_tol=1e-11), c["symbol"]
     assert math.isclose(_cell(values, f"I{rows['u_c']}"), rec.gum["u"], rel_tol=REL)
     assert math.isclose(_cell(values, f"I{rows['U']}"), rec.gum["U"], rel_tol=REL)
+    # the inputs' shares plus the correlation and second-order rows add up to 1 (common practice)
+    assert math.isclose(_cell(values, f"M{rows['sumsq'] + 9}"), 1.0, rel_tol=1e-12)
 
 
 def test_budget_sheet_holds_live_formulas_from_the_input_cells(tmp_path):
