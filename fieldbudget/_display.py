@@ -10,7 +10,7 @@ import html
 import math
 from collections.abc import Iterable, Sequence
 
-__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "fmt_u", "fmt_ppm", "group_digits", "html_table", "text_table",
+__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "fmt_u", "fmt_ppm", "fmt_value", "group_digits", "html_table", "text_table",
            "html_block", "pretty_unit", "pretty_symbol", "sensitivity_unit", "DOF_DISPLAY_LIMIT"]
 
 #: Effective degrees of freedom above this are shown as "> 1000" everywhere
@@ -117,6 +117,28 @@ def fmt_u(u: float | None, unit: str) -> str:
     if not math.isfinite(u) or u == 0:
         return f"{fmt(u)} {pretty_unit(unit)}".strip()
     return fmt_si(u, pretty_unit(unit), u)
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u2074\u2075\u2076\u2077\u2078\u2079")
+
+
+def fmt_value(value: float | None, unit: str, u: float | None = None) -> str:
+    """A quantity's estimate for a table: :func:`fmt_si` when its unit takes a prefix, otherwise (a ratio,
+    1/K) a power of ten once the digits set by ``u`` would need more than five decimals:
+    ``fmt_value(2.1e-09, "", 5e-10) == "2.10×10⁻⁹"``.
+    """
+    nice = pretty_unit(unit)
+    if value is None or not math.isfinite(value) or unit in PREFIXABLE_UNITS:
+        return fmt_si(value, nice, u)
+    if value == 0 and u:
+        return f"0 {nice}".strip()
+    ref = max(abs(value), abs(u or 0.0))
+    if ref == 0 or ref >= 1e-3:
+        return fmt_si(value, nice, u)
+    e = math.floor(math.log10(ref))
+    decimals = max(0, e - math.floor(math.log10(u)) + 1) if u else 3
+    text = f"{value / 10 ** e:.{decimals}f}\u00d710{str(e).translate(_SUPERSCRIPT)}"
+    return f"{text} {nice}".strip()
 
 
 def fmt_ppm(x: float | None, u: float | None = None) -> str:

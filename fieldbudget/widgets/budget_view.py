@@ -16,7 +16,7 @@ from typing import Any
 
 import ipywidgets as w
 
-from .._display import escape, fmt, fmt_dof, fmt_si, fmt_u, pretty_symbol, pretty_unit, sensitivity_unit
+from .._display import escape, fmt, fmt_dof, fmt_si, fmt_u, fmt_value, pretty_symbol, pretty_unit, sensitivity_unit
 from ._binding import css, guarded, status_html
 
 __all__ = ["BudgetView", "budget_table_html", "format_u", "headline_html", "share_chart_html", "summary_html"]
@@ -35,6 +35,9 @@ def _inputs(result: Any) -> dict:
 def _unit(result: Any) -> str:
     m = getattr(result, "measurand", None)
     return getattr(m, "unit", "") or ""
+
+
+_PREFIXED = frozenset({"T", "Hz", "m", "s", "V", "A", "W", "ohm", "g", "Pa"})
 
 
 def _sensitivity(c: float | None, out_unit: str, in_unit: str) -> str:
@@ -57,7 +60,9 @@ def budget_table_html(result: Any) -> str:
         q = qs.get(c.symbol)
         qu = c.unit or ""
         share = c.variance_share
-        num = (fmt_si(c.estimate, pretty_unit(qu), c.standard_uncertainty or None), format_u(c.standard_uncertainty, qu),
+        u = c.standard_uncertainty
+        num = (fmt_value(c.estimate, qu, u or None), fmt_value(u, qu, u) if u and u < 1e-3 and qu not in _PREFIXED
+               else format_u(u, qu),
                c.description or c.distribution, fmt_dof(c.dof), _sensitivity(c.sensitivity, unit, qu),
                format_u(c.u_contribution, unit), "" if share is None else f"{100 * share:.1f} %")
         src = c.source or (getattr(q, "source", "") if q is not None else "")
@@ -81,7 +86,9 @@ def share_chart_html(result: Any, width: int = 560) -> str:
     a matplotlib figure costs 100-200 ms, ten times this view's whole budget
     for a re-render after each entry (``benchmarks/bench_widgets.py``).
     """
-    contribs = sorted(result.contributions, key=lambda c: c.variance_share or 0.0, reverse=True)
+    ranked = sorted(result.contributions, key=lambda c: c.variance_share or 0.0, reverse=True)
+    contribs = [c for c in ranked if (c.variance_share or 0.0) >= 0.0005] or ranked[:1]
+    rest = [c.symbol for c in ranked if c not in contribs]
     row, label_w, text_w = 20, 150, 56
     bar_w = width - label_w - text_w
     height = row * len(contribs) + 26
@@ -102,8 +109,10 @@ def share_chart_html(result: Any, width: int = 560) -> str:
                  + "".join(f'<text x="{label_w + bar_w * t / 100:.1f}" y="{axis_y + 14}" text-anchor="middle" '
                            f'fill="#57606a" font-size="10">{t} %</text>' for t in (0, 25, 50, 75, 100))
                  + "</svg>")
+    tail = (f'<div class="fb-share-rest">{len(rest)} inputs below 0.05 % each: {escape(", ".join(rest))}</div>'
+            if rest else "")
     return ('<div class="fb-share-chart"><b>share of the variance of the result</b> (largest first)<br/>'
-            + "".join(parts) + "</div>")
+            + "".join(parts) + tail + "</div>")
 
 
 def _statement(result: Any) -> str:
@@ -162,7 +171,7 @@ class BudgetView(w.VBox):
         r = d.result
         with self.hold_sync():
             if r is None:
-                self.note.value = status_html("no budget yet: " + ("; ".join(d.errors.values()) or "add inputs"),
+                self.note.value = status_html("No budget yet: " + ("; ".join(d.errors.values()) or "add inputs"),
                                               "note")
                 self.table.value = self.chart.value = self.summary.value = self.warnings.value = ""
                 self.headline.value = ""

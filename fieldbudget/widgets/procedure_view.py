@@ -199,6 +199,8 @@ class ProcedureView:
             f"<th>component</th><th>value</th><th>source</th></tr></thead><tbody>{fixed_rows}</tbody>"
             "</table></details>"), "fb-proc-fixed")
         self.budget = css(BudgetView(run, headline=self._nmr), "fb-proc-budget")
+        if not self._nmr:  # a point's first-order statement would be a second U beside the one reported
+            self.budget.summary.layout.display = "none"
         self.u_text = css(w.HTML(), "fb-proc-u")
         self.outcome = css(w.HTML(), "fb-proc-outcome")
         self.curve = css(w.HTML(), "fb-proc-curve")
@@ -308,6 +310,7 @@ class ProcedureView:
         elif run.missing():
             names = ", ".join(run.procedure.component(cid).label for cid in run.missing())
             self.status.value = status_html(f"still to enter: {names}", "info")
+            self.budget.note.value = ""  # the line above says what the budget waits for
         else:
             last = " " + LAST_GOOD if run.result is not None else ""
             self.status.value = "".join(status_html(f"{labels.get(cid, 'The measurement')}: {user_words(m)}{last}")

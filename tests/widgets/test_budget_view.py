@@ -79,7 +79,7 @@ def test_chart_can_be_hidden(draft):
 def test_no_budget_yet_says_why():
     d = BudgetDraft(model="a", rows=[{"symbol": "a", "uncertainty": "-1"}])
     v = BudgetView(d)
-    assert "no budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
+    assert "No budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
 
 
 def test_view_follows_the_draft_until_closed(draft):
