@@ -37,6 +37,12 @@ def _unit(result: Any) -> str:
     return getattr(m, "unit", "") or ""
 
 
+def _eq_dof(nu: float | None) -> str:
+    """' = 12.3', or ' > 1000' (no '= >')."""
+    text = fmt_dof(nu)
+    return f" {escape(text)}" if text.startswith(">") else f" = {escape(text)}"
+
+
 _PREFIXED = frozenset({"T", "Hz", "m", "s", "V", "A", "W", "ohm", "g", "Pa"})
 
 
@@ -73,7 +79,7 @@ def budget_table_html(result: Any) -> str:
     out.append("</tbody><tfoot><tr>"
                '<td colspan="6">combined standard uncertainty u<sub>c</sub></td>'
                f'<td class="fb-uc" style="text-align:right;white-space:nowrap">{escape(format_u(result.standard_uncertainty, unit))}</td>'
-               f'<td colspan="2">\u03bd<sub>eff</sub> = {escape(fmt_dof(result.effective_dof))}</td>'
+               f'<td colspan="2">\u03bd<sub>eff</sub>{_eq_dof(result.effective_dof)}</td>'
                "</tr></tfoot></table></div>")
     return "".join(out)
 
@@ -135,7 +141,7 @@ def headline_html(result: Any, *, current: bool = True, label: str = "") -> str:
             f"{escape(fmt_si(result.estimate, pretty_unit(unit), U))}</span>, "
             f'<span class="fb-U">U = {escape(format_u(U, unit))}</span>{stale}'
             f'<span class="fb-headline-sub">u<sub>c</sub> = {escape(format_u(result.standard_uncertainty, unit))}, '
-            f"k = {escape(fmt(k, 3))}{escape(ptxt)}, \u03bd<sub>eff</sub> = {escape(fmt_dof(result.effective_dof))}"
+            f"k = {escape(fmt(k, 3))}{escape(ptxt)}, \u03bd<sub>eff</sub>{_eq_dof(result.effective_dof)}"
             "</span></div>")
 
 

@@ -94,6 +94,10 @@ class _FieldRow:
             self.input = w.Checkbox(value=bool(value), indent=False)
         elif comp.kind == "numbers":
             self.input = w.Textarea(value=_text_of(value), continuous_update=False, rows=5, layout=layout)
+        elif comp.kind == "text" and len(_text_of(value)) > 60:
+            # a long name (instrument and probe with serials) wraps instead of running out of its box
+            self.input = w.Textarea(value=_text_of(value), continuous_update=False, rows=2,
+                                    layout=w.Layout(width="36em"))
         else:
             self.input = w.Text(value=_text_of(value), continuous_update=False, layout=layout)
         css(self.input, "fb-proc-field", f"fb-proc-field-{comp.id}")
@@ -105,13 +109,20 @@ class _FieldRow:
         label = escape(comp.label) + (" <em>(fixed by the lab)</em>" if comp.fixed else "")
         unit = escape(pretty_unit(comp.unit))
         self.label = w.HTML(f'<div class="fb-proc-label">{label}</div>', layout=w.Layout(width="18em", min_width="18em"))
-        side = [w.HTML(f"<span>{unit}</span>")]
+        side = []
         if comp.fixed and comp.source:
             side.append(w.HTML(f'<span class="fb-proc-source">source: {escape(comp.source)}</span>'))
         if comp.help:
             side.append(w.HTML(f'<span class="fb-proc-help">{escape(comp.help)}</span>'))
         self.training = css(w.HTML(comp.training._repr_html_() if comp.training else ""), "fb-proc-training")
-        row = w.HBox([self.label, w.VBox([self.input, self.msg]), w.VBox(side, layout=w.Layout(flex="1 1 auto"))])
+        # The unit stays beside the box and the message wraps under both, inside a column of fixed
+        # width: a message never moves the entry, its unit or the help beside them.
+        box_width = getattr(getattr(self.input, "layout", None), "width", None) or "22em"
+        entry = w.HBox([self.input, w.HTML(f'<span class="fb-proc-unit">{unit}</span>',
+                                           layout=w.Layout(width="5em", min_width="5em"))])
+        middle = w.VBox([entry, self.msg], layout=w.Layout(width=f"calc({box_width} + 5.5em)",
+                                                           min_width=f"calc({box_width} + 5.5em)"))
+        row = w.HBox([self.label, middle, w.VBox(side, layout=w.Layout(flex="1 1 auto"))])
         self.widget = css(w.VBox([row, self.training]), "fb-proc-row", f"fb-proc-row-{comp.id}")
 
     def _changed(self, change) -> None:
