@@ -147,9 +147,10 @@ class CalibrationForm(w.VBox):
                                                        for r, p in zip(self._rows, d.points)):
                 self._rows = [_PointRow(self, i) for i in range(len(d.points))]
                 self.points_box.children = [r.widget for r in self._rows]
+            shown = d.calibration is not None
             for r in self._rows:
                 for bt in r.texts.values():
-                    bt.sync()
+                    bt.sync(last_good=shown)
             for key, part in self.settings.items():
                 if isinstance(part, BoundText):
                     part.sync()

@@ -187,7 +187,8 @@ def test_report_overall(run):
     assert bad.accepted is False and [v.limit.id for v in bad.failures] == ["warnings"]
     assert repr(bad) == "<AcceptanceReport 'nmr-reference-field': REJECTED, 4/5 limits met>"
     html = bad._repr_html_()
-    assert "NOT met" in html and 'class="fb-proc-acceptance"' in html
+    assert "Rejected:" in html and ">rejected<" in html and 'class="fb-proc-acceptance"' in html
+    assert "warning_count" not in html and "&lt;=" not in html   # the rule in words, not code
     d = bad.to_dict()
     assert json.loads(json.dumps(d)) == d and d["accepted"] is False
 
