@@ -1,4 +1,4 @@
-"""Time of one GUM evaluation: a 15-input nonlinear model and a 200-input model.
+"""Time of one GUM evaluation: a 15-input nonlinear model and a 200-input model; cost of the unit check.
 
 A script, not a test: it prints medians and ratios and asserts nothing.
 Run: .venv/bin/python benchmarks/bench_gum.py
@@ -9,10 +9,11 @@ from __future__ import annotations
 import statistics
 import time
 
-from fieldbudget.engine import Budget, InputQuantity, evaluate
+from fieldbudget.engine import Budget, InputQuantity, Measurand, evaluate
+from fieldbudget.engine import dimensions
 
 
-def nonlinear_15() -> Budget:
+def nonlinear_15(units: str = "checked") -> Budget:
     # an NMR-like product of corrections with a cosine, an exponential and a square root
     expr = ("2*pi*f*(1 + y_tb)*(1 + d1)*(1 + d2)*(1 + d3)*(1 + d4)/(g*(1 + a*(t - t0))*(1 + chi*(1/3 - N))"
             "*cos(theta)) + G*dx")
@@ -21,13 +22,14 @@ def nonlinear_15() -> Budget:
         InputQuantity.normal("y_tb", 1e-9, 5e-10), InputQuantity.rectangular("d1", 0, 1e-8),
         InputQuantity.triangular("d2", 0, 2e-8), InputQuantity.arcsine("d3", 0, 1e-8),
         InputQuantity.normal("d4", 0, 3e-9),
-        InputQuantity.normal("g", 2.675153194e8, 1.1), InputQuantity.normal("a", 10.36e-9, 0.3e-9),
-        InputQuantity.normal("t", 22.0, 0.1), InputQuantity.normal("t0", 25.0, 0.0),
+        InputQuantity.normal("g", 2.675153194e8, 1.1, unit="s^-1 T^-1"),
+        InputQuantity.normal("a", 10.36e-9, 0.3e-9, unit="1/K"),
+        InputQuantity.normal("t", 22.0, 0.1, unit="degC"), InputQuantity.normal("t0", 25.0, 0.0, unit="degC"),
         InputQuantity.normal("chi", -9.05e-6, 0.05e-6), InputQuantity.normal("N", 0.3116, 0.002),
-        InputQuantity.normal("theta", 0.0, 0.01), InputQuantity.normal("G", 1e-4, 1e-5),
-        InputQuantity.normal("dx", 0.0, 1e-4),
+        InputQuantity.normal("theta", 0.0, 0.01, unit="rad"), InputQuantity.normal("G", 1e-4, 1e-5, unit="T/m"),
+        InputQuantity.normal("dx", 0.0, 1e-4, unit="m"),
     ]
-    return Budget(model=expr, inputs=tuple(inputs))
+    return Budget(model=expr, inputs=tuple(inputs), measurand=Measurand("B", "T"), units=units)
 
 
 def linear_200() -> Budget:
@@ -44,7 +46,24 @@ def timeit(fn, repeat: int) -> float:
     return statistics.median(times)
 
 
+def unit_check_cost() -> None:
+    """The dimensional check alone, on a fresh (uncached) 15-input budget, and its share of an evaluation."""
+    t0 = time.perf_counter()
+    dimensions.check(nonlinear_15())      # first call in the process: pint's registry and the unit parses
+    cold = time.perf_counter() - t0
+    budgets = [nonlinear_15() for _ in range(200)]
+    it = iter(budgets)
+    warm = timeit(lambda: dimensions.check(next(it)), 200)
+    with_check = timeit(lambda: evaluate(nonlinear_15()), 50)
+    without = timeit(lambda: evaluate(nonlinear_15("unchecked")), 50)
+    print(f"unit check of the 15-input model: first call in the process {cold * 1e3:.1f} ms "
+          f"(builds pint's registry once), then median {warm * 1e3:.3f} ms (target < 5 ms)")
+    print(f"GUM evaluation of a fresh 15-input budget with / without the unit check: {with_check * 1e3:.2f} / "
+          f"{without * 1e3:.2f} ms (ratio {with_check / without:.2f})")
+
+
 def main() -> None:
+    unit_check_cost()
     b15, b200 = nonlinear_15(), linear_200()
     evaluate(b15), evaluate(b200)  # warm up (imports, scipy)
     t15 = timeit(lambda: evaluate(b15), 50)

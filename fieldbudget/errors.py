@@ -20,6 +20,7 @@ __all__ = [
     "ModelEvaluationError",
     "BudgetFileError",
     "RecordError",
+    "OutputError",
     "DigestMismatch",
     "SchemaVersionError",
     "MonteCarloCancelled",
@@ -133,6 +134,21 @@ class BudgetFileError(FieldbudgetError, ValueError):
 
 class RecordError(FieldbudgetError):
     """A record that cannot be loaded or verified."""
+
+
+class OutputError(FieldbudgetError):
+    """An output path that cannot or must not be written; ``path`` is the path as the user gave it."""
+
+    def __init__(self, path: str, reason: str) -> None:
+        self.path = str(path)
+        self.reason = reason
+        super().__init__(self.path, reason)
+
+    def __str__(self) -> str:
+        return f"{self.path or repr(self.path)}: {self.reason}"
+
+    def __reduce__(self):
+        return (type(self), (self.path, self.reason))
 
 
 class DigestMismatch(RecordError):

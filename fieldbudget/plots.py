@@ -22,8 +22,10 @@ from typing import Any
 from matplotlib.figure import Figure
 
 from ._display import escape, fmt_si, pretty_unit
+__all__ = ["control_chart", "drift_chart", "field_map_figure", "img_html", "line_fit_figure", "mc_histogram",
+           "share_chart", "to_png", "to_svg", "calibration_curve",
+           "register_display"]
 
-__all__ = ["calibration_curve", "img_html", "mc_histogram", "register_display", "share_chart", "to_png", "to_svg"]
 
 # neutral palette of our own: slate, brick, plum, moss, grey
 _COLOURS = {"mc": "#6b8bad", "symmetric": "#9c3d2e", "shortest": "#6a4c7d", "gum": "#3f6b3a", "bar": "#3b5b7a",
@@ -197,6 +199,205 @@ def img_html(fig: Figure, css_class: str = "fb-figure", alt: str = "chart") -> s
     """An ``<img>`` tag with the figure as an inline PNG."""
     data = base64.b64encode(to_png(fig)).decode("ascii")
     return f'<img class="{escape(css_class)}" src="data:image/png;base64,{data}" alt="{escape(alt)}"/>'
+
+
+
+
+# --- raw data: line fits and field maps -------------------------------------------------------
+# Self-contained figure builders (each returns a Figure), so any display wrapper applies to them.
+
+_FIT = {"data": "#8aa9bf", "fit": "#b34a2a", "imag": "#7d9a5b", "resid": "#3b6e8f"}
+
+
+def line_fit_figure(fit: Any, *, title: str | None = None) -> Figure:
+    """Data and fitted line above, residuals below, of a :class:`fieldbudget.nmr.linefit.LineFit`.
+
+    A swept line is drawn against f - f0 (Hz); an FID against time (s), with
+    I and Q for a complex record.
+    """
+    import numpy as np
+
+    fig = Figure(figsize=(6.6, 4.6), dpi=90)
+    top, bottom = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": (3, 1.2)})
+    x = np.asarray(fit.x, dtype=float)
+    sig, fitted, resid = (np.asarray(a) for a in (fit.signal, fit.fitted, fit.residuals))
+    if fit.kind == "fid":
+        xlabel = "t / s"
+    else:
+        x = x - fit.centre_hz
+        xlabel = f"f \u2212 {fit.centre_hz:.12g} Hz   (in Hz)"
+    if np.iscomplexobj(sig):
+        top.plot(x, sig.real, ".", ms=2, color=_FIT["data"], label="I (data)")
+        top.plot(x, sig.imag, ".", ms=2, color=_FIT["imag"], alpha=0.6, label="Q (data)")
+        top.plot(x, fitted.real, color=_FIT["fit"], lw=1.2, label="fit")
+        top.plot(x, fitted.imag, color=_FIT["fit"], lw=1.0, ls="--")
+        bottom.plot(x, resid.real, lw=0.6, color=_FIT["resid"])
+        bottom.plot(x, resid.imag, lw=0.6, color=_FIT["imag"], alpha=0.7)
+    else:
+        top.plot(x, sig, ".", ms=2, color=_FIT["data"], label="data")
+        top.plot(x, fitted, color=_FIT["fit"], lw=1.2, label="fit")
+        bottom.plot(x, resid, lw=0.6, color=_FIT["resid"])
+    bottom.axhline(0.0, color="#555", lw=0.6)
+    top.set_ylabel("signal")
+    bottom.set_ylabel("residual")
+    bottom.set_xlabel(xlabel)
+    top.legend(loc="upper right", fontsize="x-small", frameon=False)
+    top.set_title(title or (f"{fit.label}: centre u = {fit.u_centre_hz:.3g} Hz, CRB = {fit.crb_hz:.3g} Hz, "
+                            f"\u03c7\u00b2\u1d63 = {fit.chi2_reduced:.3g}"), fontsize="small")
+    fig.tight_layout()
+    return fig
+
+
+def field_map_figure(fit: Any, *, plane: str = "xz", offset_m: float | None = None, title: str | None = None) -> Figure:
+    """Heatmaps of the fitted field (ppm of B0) on a plane through the reference point and of the residuals.
+
+    ``plane`` is "xz", "yz" or "xy"; ``offset_m`` moves the plane along the
+    third axis (default: through the reference point).  The residuals are the
+    map points projected onto the plane, coloured by residual / rms residual.
+    """
+    import numpy as np
+
+    axes = {"x": 0, "y": 1, "z": 2}
+    if len(plane) != 2 or plane[0] not in axes or plane[1] not in axes or plane[0] == plane[1]:
+        raise ValueError(f"plane must be 'xz', 'yz' or 'xy' (got {plane!r})")
+    i, j = axes[plane[0]], axes[plane[1]]
+    k = 3 - i - j
+    xyz = np.asarray(fit.xyz_m)
+    lo, hi = xyz.min(axis=0), xyz.max(axis=0)
+    a = np.linspace(lo[i], hi[i], 121)
+    b = np.linspace(lo[j], hi[j], 121)
+    aa, bb = np.meshgrid(a, b)
+    pts = np.zeros((aa.size, 3))
+    pts[:, i], pts[:, j] = aa.ravel(), bb.ravel()
+    pts[:, k] = fit.about_m[k] if offset_m is None else offset_m
+    ppm = (fit.evaluate(pts) - fit.b0_t) / abs(fit.b0_t) * 1e6
+    fig = Figure(figsize=(9.0, 3.8), dpi=90)
+    left, right = fig.subplots(1, 2)
+    mesh = left.pcolormesh(aa * 1e3, bb * 1e3, ppm.reshape(aa.shape), shading="auto", cmap="RdBu_r")
+    left.contour(aa * 1e3, bb * 1e3, ppm.reshape(aa.shape), colors="k", linewidths=0.4, levels=10)
+    fig.colorbar(mesh, ax=left, label="(B \u2212 B0)/B0 / ppm")
+    left.set_title(f"fitted field, order {fit.order}", fontsize="small")
+    r = np.asarray(fit.residuals_t) / (fit.residual_rms_t or 1.0)
+    order = np.argsort(np.abs(r))
+    sc = right.scatter(xyz[order, i] * 1e3, xyz[order, j] * 1e3, c=r[order], s=12, cmap="RdBu_r", vmin=-3, vmax=3)
+    fig.colorbar(sc, ax=right, label="residual / rms residual")
+    right.set_title(f"residuals at the map points (rms {fit.residual_rms_t:.3g} T)", fontsize="small")
+    for ax in (left, right):
+        ax.set_xlabel(f"{plane[0]} / mm")
+        ax.set_ylabel(f"{plane[1]} / mm")
+        ax.set_aspect("equal", adjustable="box")
+    if title:
+        fig.suptitle(title, fontsize="small")
+    fig.tight_layout()
+    return fig
+
+
+# ----------------------------------------------------------------------------
+# laboratory monitoring (fieldbudget.lab.monitoring)
+# ----------------------------------------------------------------------------
+
+_CHART = {"point": "#2c3e50", "later": "#4a7ab5", "centre": "#1e8449", "limit": "#c0392b", "zone": "#7f8c8d",
+          "signal": "#d35400", "ewma": "#7d3c98"}
+
+
+def control_chart(chart: Any, *, ax: Any = None, title: str | None = None) -> Figure:
+    """An individuals chart: the points with their expanded-uncertainty bars, centre line, zones and limits.
+
+    The points that set the limits (the baseline) are drawn filled, later ones
+    open; a point where a test for special causes fired (ISO 7870-2) is ringed
+    and labelled with the test's number.  With an EWMA (``chart.ewma``) a
+    second panel shows it with its limits.
+    """
+    fig = None
+    with_ewma = getattr(chart, "ewma", None) is not None
+    if ax is None:
+        fig = Figure(figsize=(7.2, 5.2 if with_ewma else 3.6), dpi=90)
+        axes = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": (3, 1.4)}) if with_ewma \
+            else (fig.add_subplot(),)
+        ax = axes[0]
+    else:
+        axes = (ax,)
+    n = len(chart.values)
+    xs = list(range(1, n + 1))
+    y0, s = chart.centre, chart.sigma
+    dev = [v - y0 for v in chart.values]
+    bars = [u if u is not None else 0.0 for u in chart.U] if chart.U else None
+    for k, style in ((1, ":"), (2, "--")):
+        for sign in (1, -1):
+            ax.axhline(sign * k * s, color=_CHART["zone"], lw=0.8, ls=style)
+    ax.axhline(0.0, color=_CHART["centre"], lw=1.4, label="centre line (baseline mean)")
+    ax.axhline(3 * s, color=_CHART["limit"], lw=1.4, label="limits, centre \u00b1 3\u03c3")
+    ax.axhline(-3 * s, color=_CHART["limit"], lw=1.4)
+    b = chart.baseline
+    ax.axvspan(0.5, b + 0.5, color=_CHART["zone"], alpha=0.08, lw=0, label=f"baseline ({b} points)")
+    ax.errorbar(xs[:b], dev[:b], yerr=bars[:b] if bars else None, fmt="o", color=_CHART["point"], ms=4,
+                capsize=2, lw=0.9, label="value \u00b1 U")
+    if n > b:
+        ax.errorbar(xs[b:], dev[b:], yerr=bars[b:] if bars else None, fmt="o", mfc="white", color=_CHART["later"],
+                    ms=4, capsize=2, lw=0.9)
+    ax.plot(xs, dev, color=_CHART["point"], lw=0.5, alpha=0.6)
+    done: dict[int, list[int]] = {}
+    for v in chart.violations:
+        done.setdefault(v.index, []).append(v.rule)
+    for i, rules in done.items():
+        ax.plot([i + 1], [dev[i]], "o", ms=11, mfc="none", mec=_CHART["signal"], mew=1.5)
+        ax.annotate("test " + ",".join(map(str, sorted(rules))), (i + 1, dev[i]), textcoords="offset points",
+                    xytext=(6, 8), fontsize="x-small", color=_CHART["signal"])
+    unit = chart.unit or ""
+    ax.set_ylabel(f"value \u2212 {y0:.10g} {unit}".rstrip())
+    ax.legend(loc="upper left", fontsize="x-small", frameon=False, ncol=2)
+    ax.set_title(title or chart.title or "individuals chart", fontsize="small")
+    if with_ewma and len(axes) > 1:
+        e = chart.ewma
+        ax2 = axes[1]
+        ax2.plot(xs, [z - y0 for z in e.z], "-o", ms=3, color=_CHART["ewma"], label=f"EWMA, \u03bb = {e.lam:g}")
+        ax2.plot(xs, [u - y0 for u in e.upper], color=_CHART["limit"], lw=1)
+        ax2.plot(xs, [lo - y0 for lo in e.lower], color=_CHART["limit"], lw=1)
+        ax2.axhline(0.0, color=_CHART["centre"], lw=1)
+        for i in e.signals:
+            ax2.plot([i + 1], [e.z[i] - y0], "o", ms=9, mfc="none", mec=_CHART["signal"])
+        ax2.legend(loc="upper left", fontsize="x-small", frameon=False)
+        ax2.set_xlabel("point")
+    else:
+        ax.set_xlabel("point")
+    if chart.labels:
+        step = max(1, n // 8)
+        target = axes[-1]
+        target.set_xticks(xs[::step])
+        target.set_xticklabels([chart.labels[i] for i in range(0, n, step)], rotation=30, ha="right",
+                               fontsize="x-small")
+    if fig is not None:
+        fig.tight_layout()
+    return fig if fig is not None else ax.figure
+
+
+def drift_chart(fit: Any, review: Any = None, *, ax: Any = None) -> Figure:
+    """An instrument's certified values against time with the fitted drift line (and the reviewed limit)."""
+    import datetime as _dt
+
+    fig = None
+    if ax is None:
+        fig = Figure(figsize=(6.4, 3.2), dpi=90)
+        ax = fig.add_subplot()
+    t0 = _dt.date.fromisoformat(fit.t0)
+    days = [(_dt.date.fromisoformat(d) - t0).days for d in fit.dates]
+    ax.errorbar(days, fit.values, yerr=[2 * u for u in fit.u] if any(fit.u) else None, fmt="o",
+                color=_CHART["point"], capsize=2, label="certified value \u00b1 2u")
+    span = [min(days), max(days) + (review.current_days if review else 0)]
+    ax.plot(span, [fit.intercept + fit.slope_per_day * t for t in span], color=_CHART["ewma"],
+            label=f"drift {fit.slope_per_day * 365.25:.3g} per year")
+    if review is not None:
+        last = fit.values[-1]
+        for sign in (1, -1):
+            ax.axhline(last + sign * review.limit, color=_CHART["limit"], lw=1, ls="--")
+        ax.plot([], [], color=_CHART["limit"], ls="--", label="allowed change since the last calibration")
+    ax.set_xlabel(f"days since {fit.t0}")
+    ax.set_ylabel(fit.quantity)
+    ax.set_title(f"{fit.instrument}: {fit.quantity} over its certificates", fontsize="small")
+    ax.legend(loc="best", fontsize="x-small", frameon=False)
+    if fig is not None:
+        fig.tight_layout()
+    return fig if fig is not None else ax.figure
 
 
 register_display()

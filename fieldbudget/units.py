@@ -26,7 +26,8 @@ from functools import cache
 
 from fieldbudget.errors import InputError
 
-__all__ = ["to_si", "convert", "parse_quantity", "normalise_unit", "unit_kind", "allowed_units", "SI_UNITS"]
+__all__ = ["to_si", "convert", "parse_quantity", "normalise_unit", "unit_kind", "allowed_units", "SI_UNITS",
+           "UnitInfo", "parse_unit", "unit_factor", "unprefixed"]
 
 # accepted spelling -> (kind, pint expression)
 _UNITS: dict[str, tuple[str, str]] = {
@@ -189,3 +190,80 @@ def parse_quantity(text: str, where: str = "quantity") -> tuple[float, str]:
     except InputError:
         raise InputError("quantity", text, f"a number followed by a unit, the unit {_allowed_text()}", where) from None
     return value, unit
+
+
+# --------------------------------------------------------------------------- any unit, for the model check
+class UnitInfo(tuple):
+    """(dimensions, factor, offset) of a unit: ``dimensions`` a sorted tuple of (base dimension, exponent),
+    ``factor`` the value of one unit in coherent SI, ``offset`` True for degC / degF (temperature scales
+    with an offset, taken here as differences)."""
+
+    __slots__ = ()
+
+    def __new__(cls, dimensions, factor, offset):
+        return super().__new__(cls, (dimensions, factor, offset))
+
+    dimensions = property(lambda self: self[0])
+    factor = property(lambda self: self[1])
+    offset = property(lambda self: self[2])
+
+
+_OFFSET_NAMES = {"degree_Celsius": "delta_degree_Celsius", "degree_Fahrenheit": "delta_degree_Fahrenheit"}
+
+
+@cache
+def parse_unit(text: str) -> UnitInfo | None:
+    """The dimensions and SI factor of any unit pint understands (``"mohm"``, ``"MHz/T"``, ``"K^-1"``, ``"%"``).
+
+    ``""`` and ``"1"`` are pure numbers.  The spellings of :func:`normalise_unit`
+    keep their meaning here (``G`` is the SI-defined gauss, not pint's CGS
+    one).  Returns ``None`` for text that is not a unit.  Cached: each
+    spelling is parsed once per process.
+    """
+    if not isinstance(text, str):
+        return None
+    t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u")
+    if t in ("", "1", "-"):
+        return UnitInfo((), 1.0, False)
+    t = _SYNONYMS.get(t, t)
+    expr = _UNITS[t][1] if t in _UNITS else t
+    ureg = _registry()
+    try:
+        unit = ureg.parse_units(expr)
+    except Exception:  # noqa: BLE001 - pint raises several kinds for text that is not a unit
+        return None
+    dims = tuple(sorted((str(k), float(v)) for k, v in ureg.get_dimensionality(unit).items()))
+    name = str(unit)
+    offset = "delta_" not in name and any(n in name for n in _OFFSET_NAMES)
+    if offset:  # an offset unit (degC): its scale is that of a temperature difference
+        for n, dn in _OFFSET_NAMES.items():
+            name = name.replace(n, dn)
+        unit = ureg.parse_units(name)
+    try:
+        factor = float(ureg.Quantity(1.0, unit).to_base_units().magnitude)
+    except Exception:  # noqa: BLE001
+        return None
+    return UnitInfo(dims, factor, offset)
+
+
+def unit_factor(from_unit: str, to_unit: str) -> float:
+    """The number that converts a value in ``from_unit`` to ``to_unit`` (same dimensions; no offsets)."""
+    a, b = parse_unit(from_unit), parse_unit(to_unit)
+    if a is None or b is None or a.dimensions != b.dimensions:
+        raise InputError("unit", from_unit, f"a unit of the same dimension as {to_unit!r}", "unit conversion")
+    return float(Decimal(f"{a.factor / b.factor:.12g}"))
+
+
+@cache
+def unprefixed(text: str) -> str | None:
+    """The unit without its SI prefix (``"mK"`` -> ``"K"``, ``"mohm"`` -> ``"ohm"``); ``None`` if not a prefixed unit."""
+    ureg = _registry()
+    try:
+        parts = ureg.parse_unit_name(text.strip())
+    except Exception:  # noqa: BLE001
+        return None
+    if len(parts) != 1 or not parts[0][0] or parts[0][2]:
+        return None
+    name = parts[0][1]
+    symbol = ureg.get_symbol(name)
+    return symbol if symbol.isascii() else name

@@ -16,7 +16,7 @@ PKG = Path(__file__).resolve().parents[1] / "fieldbudget"
 BELOW_WIDGETS = ["fieldbudget", "fieldbudget.engine", "fieldbudget.constants", "fieldbudget.cli"] + [
     f"fieldbudget.{p.name}" for p in sorted(PKG.iterdir())
     if p.is_dir() and (p / "__init__.py").exists() and p.name in {"nmr", "calibration", "files", "report", "procedure",
-                                                                   "drafts"}
+                                                                   "drafts", "lab"}
 ]
 
 

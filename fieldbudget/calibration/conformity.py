@@ -318,7 +318,10 @@ def assess_conformity(
         The PDF behind ``p_c``: normal (GUM), t with ``dof`` (or the
         result's ``effective_dof``), Monte Carlo ``samples``, or the
         histogram of a Monte Carlo ``result`` (or of a point result's
-        ``monte_carlo``).
+        ``monte_carlo``); ``"auto"``: the histogram on a point evaluated by
+        Monte Carlo, else t with the effective degrees of freedom.  ``"t"`` on
+        a Monte Carlo point is refused: Monte Carlo's u with first-order
+        degrees of freedom describes neither evaluation.
     """
     if result is not None:
         y, u, k, nu = _from_result(result)
@@ -353,6 +356,14 @@ def assess_conformity(
                          f"({_display.fmt(tolerance.width / 2)} {tolerance.unit}); otherwise the acceptance "
                          "interval is empty", _WHERE)
     notes: list[str] = []
+    mc_point = getattr(result, "monte_carlo", None) is not None
+    if distribution == "auto":
+        # the distribution the result was propagated with: Monte Carlo's, else t with nu_eff (normal if infinite)
+        distribution = "histogram" if mc_point else "t"
+    if distribution == "t" and mc_point:
+        raise InputError("distribution", "t", "'histogram' (or 'samples' or 'auto') for a Monte Carlo point: its "
+                         "u comes from Monte Carlo and its effective degrees of freedom from first-order "
+                         "propagation, and a t-distribution built from the two does not describe it", _WHERE)
     if distribution == "normal":
         pc = probability_of_conformity(tolerance, y, u)
         dist_text = "normal PDF"
@@ -376,7 +387,8 @@ def assess_conformity(
         se = math.sqrt(max(pc * (1 - pc), 1.0 / n) / n)
         dist_text = f"Monte Carlo, {n} samples (standard error {se:.1g})"
     else:
-        raise InputError("distribution", distribution, "one of 'normal', 't', 'samples', 'histogram'", _WHERE)
+        raise InputError("distribution", distribution, "one of 'normal', 't', 'samples', 'histogram', 'auto'",
+                         _WHERE)
     accepted = (a_lo is None or y >= a_lo) and (a_hi is None or y <= a_hi)
     if accepted and pc < 0.5:
         notes.append("accepted although the probability of conformity is below 50 %")

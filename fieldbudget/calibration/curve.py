@@ -141,6 +141,9 @@ class CurveFit:
         ``sqrt(sum r^2 / dof)`` (JCGM 100:2008, H.3.3, "s"); ``None`` if ``dof == 0``.
     scaled : bool
         Whether the covariance was multiplied by ``R_B^2`` (see ``scale``).
+    y_dof : tuple of float or None
+        Degrees of freedom of each point's standard uncertainty (``inf`` for
+        a known one), used for the degrees of freedom of a prediction.
     """
 
     degree: int
@@ -160,6 +163,7 @@ class CurveFit:
     x_unit: str = ""
     y_unit: str = ""
     warnings: tuple[str, ...] = ()
+    y_dof: tuple[float, ...] | None = None
     _cov: np.ndarray = field(default=None, repr=False, compare=False)  # type: ignore[assignment]
 
     def __post_init__(self) -> None:
@@ -232,12 +236,45 @@ class CurveFit:
                    f"of the fitted curve and its uncertainty assumes the curve's form holds there")
             notes.append(msg)
             warnings.warn(msg, CalibrationRangeWarning, stacklevel=_stacklevel)
-        dof = None if self.method != "ordinary" else float(self.dof)
+        nu_curve = self._prediction_dof(g, u_curve)
+        u_tot = math.hypot(u_curve, u_extra)
+        # Welch-Satterthwaite (JCGM 100:2008 G.4.1) over the curve part and the new observation (known, inf)
+        dof = (math.inf if u_tot == 0 or math.isinf(nu_curve) or u_curve == 0
+               else nu_curve * (u_tot / u_curve) ** 4)
         return CurvePrediction(
             x=float(x), value=value, standard_uncertainty=math.hypot(u_curve, u_extra),
             uncertainty_from_curve=u_curve, uncertainty_extra=float(u_extra), dof=dof,
             inside_range=inside, unit=self.y_unit, warnings=tuple(notes),
         )
+
+    def _prediction_dof(self, g: np.ndarray, u_curve: float) -> float:
+        """Degrees of freedom of ``u_curve = sqrt(g^T V(a) g)``.
+
+        Ordinary fit: ``n - p`` (JCGM 100:2008 H.3).  With stated point
+        uncertainties and their ``y_dof``: the prediction is ``w^T y`` with
+        ``w = g^T (X^T V^-1 X)^-1 X^T V^-1``, and the Welch-Satterthwaite
+        formula (JCGM 100:2008 G.4.1) is applied over the points' own
+        variances, ``nu = u^4 / sum (w_k u_k)^4 / nu_k``.  With correlated points
+        this is an approximation (the shared inputs are typically reference
+        constants with infinite degrees of freedom).  Without ``y_dof``: infinite.
+        """
+        if self.method == "ordinary":
+            return float(self.dof)
+        if self.y_dof is None or self.y_covariance is None or u_curve == 0:
+            return math.inf
+        nu = np.asarray(self.y_dof, dtype=float)
+        if np.all(np.isinf(nu)):
+            return math.inf
+        v = np.asarray(self.y_covariance, dtype=float)
+        xm = _design(np.asarray(self.x), self.x0, self.degree)
+        vi = np.linalg.inv(v)
+        w = g @ np.linalg.inv(xm.T @ vi @ xm) @ xm.T @ vi
+        terms = (w * np.sqrt(np.diag(v))) ** 4
+        den = float(np.sum(np.where(np.isinf(nu), 0.0, terms / np.where(np.isinf(nu), 1.0, nu))))
+        if den <= 0:
+            return math.inf
+        scale = self.birge_ratio ** 2 if self.scaled and self.birge_ratio else 1.0
+        return float((u_curve / math.sqrt(scale)) ** 4 / den)
 
     def recentred(self, x0: float) -> CurveFit:
         """The same curve expanded about another point ``x0``.
@@ -262,7 +299,7 @@ class CurveFit:
             covariance=_as_tuple2(v), method=self.method, dof=self.dof, x=self.x, y=self.y,
             y_covariance=self.y_covariance, residuals=self.residuals, chi_square=self.chi_square,
             birge_ratio=self.birge_ratio, residual_standard_deviation=self.residual_standard_deviation,
-            scaled=self.scaled, x_unit=self.x_unit, y_unit=self.y_unit, warnings=self.warnings,
+            scaled=self.scaled, x_unit=self.x_unit, y_unit=self.y_unit, warnings=self.warnings, y_dof=self.y_dof,
         )
 
     # -- display ----------------------------------------------------------------------------
@@ -343,6 +380,7 @@ def fit_polynomial(
     allow_repeated_x: bool = False,
     x_unit: str = "",
     y_unit: str = "",
+    y_dof: Sequence[float] | None = None,
 ) -> CurveFit:
     """Fit ``y = sum_j a_j (x - x0)^j`` by least squares.
 
@@ -369,6 +407,9 @@ def fit_polynomial(
         only when ``R_B > 1`` (``"birge"``), or always.
     allow_repeated_x : bool
         Calibration points at the same ``x`` are refused unless this is true.
+    y_dof : sequence of float, optional
+        Degrees of freedom of each ``u(y_k)`` (``inf`` allowed), for the
+        degrees of freedom of :meth:`CurveFit.predict`.
 
     Returns
     -------
@@ -394,6 +435,11 @@ def fit_polynomial(
                          f"merge them or pass allow_repeated_x=True)", where)
     if len(uniq) < p:
         raise InputError("points", f"{len(uniq)} distinct x", f"at least {p} distinct x values", where)
+    ydof = None
+    if y_dof is not None:
+        ydof = tuple(float(v) for v in y_dof)
+        if len(ydof) != n or not all(v > 0 for v in ydof):
+            raise InputError("y_dof", list(ydof), f"{n} numbers > 0 (inf allowed)", where)
     if scale not in ("never", "birge", "always"):
         raise InputError("scale", scale, "one of 'never', 'birge', 'always'", where)
     if u_y is not None and covariance is not None:
@@ -485,5 +531,5 @@ def fit_polynomial(
         method=method, dof=dof, x=tuple(float(t) for t in xa), y=tuple(float(t) for t in ya),
         y_covariance=None if v is None else _as_tuple2(v), residuals=tuple(float(t) for t in resid),
         chi_square=chi2, birge_ratio=birge, residual_standard_deviation=s_res, scaled=scaled,
-        x_unit=x_unit, y_unit=y_unit, warnings=tuple(notes),
+        x_unit=x_unit, y_unit=y_unit, warnings=tuple(notes), y_dof=ydof,
     )

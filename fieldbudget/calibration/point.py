@@ -2,11 +2,11 @@
 
 At calibration point i the error of the instrument under calibration is
 
-    E_i = (R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i) - (B_ref,i + G_i * dz_pos) * cos(theta_i)
+    E_i = (R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i) - (B_ref,i + G_i * dz_pos) * cos(theta_x_i) * cos(theta_y_i)
 
 and, when asked for, the correction factor
 
-    K_i = (B_ref,i + G_i * dz_pos) * cos(theta_i) / ((R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i))
+    K_i = (B_ref,i + G_i * dz_pos) * cos(theta_x_i) * cos(theta_y_i) / ((R_i - R_zero + dres_i + drev_i) / (1 + a_temp * dT_i))
 
 with (each term appears in the model only when it is given):
 
@@ -20,13 +20,24 @@ with (each term appears in the model only when it is given):
   (JCGM 100:2008 F.2.2.1);
 * ``a_temp * dT_i``: temperature coefficient of the instrument (shared) times
   the temperature difference from its reference temperature;
-* ``cos(theta_i)``: alignment of the probe to the field; the probe sees the
-  component ``B cos(theta)``.  At ``theta = 0`` the first-order sensitivity is
-  zero, so the law of propagation gives this term no uncertainty and no bias,
-  while ``E[cos theta] = exp(-u^2/2) ~ 1 - u^2/2`` for ``theta ~ N(0, u^2)``.
-  The budget therefore goes through Monte Carlo (JCGM 101:2008) and the
-  result says that first-order propagation underestimates the term
-  (JCGM 100:2008 5.1.2, note; JCGM 101:2008 5.11);
+* ``cos(theta_x_i) * cos(theta_y_i)``: alignment of the probe to the field.
+  A misaligned probe axis is off by two angles (about two axes across the
+  field); after the two rotations the component along the field is
+  ``B cos(theta_x) cos(theta_y)`` (the z-component of the rotated unit
+  vector).  With ``theta_x, theta_y ~ N(0, u^2)`` independent,
+  ``E[cos theta_x cos theta_y] = exp(-u^2) ~ 1 - u^2`` and its variance is
+  ``((1 + exp(-2u^2))/2)^2 - exp(-2u^2) ~ u^4``: bias and spread both about
+  ``u^2`` (normal moments, ``common practice``).  ``tilt_model="one-angle"``
+  keeps the single-angle model ``cos(theta_i)`` (bias ``u^2/2``, spread
+  ``u^2/sqrt 2``) for a probe guided in one plane.  At ``theta = 0`` the
+  first-order sensitivity is zero, so the law of propagation gives this term
+  no uncertainty and no bias.  With ``propagation="auto"`` the budget goes
+  through Monte Carlo (JCGM 101:2008) when such an input *matters*: when its
+  second-order effect (variance ``c2^2/2`` plus squared bias ``(c2/2)^2``,
+  with ``c2 = d2E/dx2 u^2``; JCGM 100:2008 5.1.2, note) exceeds 1 % of the
+  first-order ``u_c^2`` at some point.  A negligible one leaves the GUM route,
+  because Monte Carlo also changes the other inputs' treatment (Type A inputs
+  are drawn as t with n - 1 degrees of freedom, JCGM 101:2008 6.4.9);
 * ``G_i * dz_pos``: field gradient at the point times the position difference
   between the NMR sample and the Hall element (shared: same fixture);
 * ``B_ref,i``: the reference field at the NMR sample.  Given as the NMR
@@ -70,8 +81,10 @@ from fieldbudget.errors import InputError
 from .curve import CalibrationRangeWarning, CurveFit, fit_polynomial
 
 __all__ = [
+    "AUTO_THRESHOLD",
     "CURVE_FORMS",
     "PROPAGATIONS",
+    "TILT_MODELS",
     "CalibrationCurve",
     "CalibrationPoint",
     "CalibrationResult",
@@ -82,8 +95,11 @@ __all__ = [
 
 PROPAGATIONS = ("auto", "gum", "monte carlo")
 CURVE_FORMS = ("error", "reading")
+TILT_MODELS = ("two-angle", "one-angle")
+#: Share of the first-order u_c^2 above which a zero-sensitivity input sends "auto" to Monte Carlo.
+AUTO_THRESHOLD = 0.01
 _WHERE = "calibration"
-_SHARED_OWN = ("R_zero", "a_temp", "dz_pos", "theta")
+_SHARED_OWN = ("R_zero", "a_temp", "dz_pos", "theta", "theta_x", "theta_y")
 
 
 def _num(name: str, v: object, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
@@ -245,7 +261,11 @@ class CalibrationSet:
     temperature_coefficient_per_k, u_temperature_coefficient_per_k : float
         Relative temperature coefficient of the indication, 1/K (shared).
     tilt_u_rad : float
-        Standard uncertainty of the probe's alignment angle, rad (theta = 0 +- u, normal).
+        Standard uncertainty of the probe's alignment angle, rad (theta = 0 +- u, normal),
+        per axis for the two-angle model.
+    tilt_model : ``"two-angle"`` (default) or ``"one-angle"``
+        Two independent angles about two axes across the field,
+        ``cos(theta_x) cos(theta_y)``, or one angle, ``cos(theta)``.
     tilt_per_point : bool
         True when the probe is re-seated at each point (independent angles);
         False for one mounting for all points (one shared angle).
@@ -268,6 +288,7 @@ class CalibrationSet:
     u_temperature_coefficient_per_k: float = 0.0
     tilt_u_rad: float = 0.0
     tilt_per_point: bool = True
+    tilt_model: str = "two-angle"
     position_offset_m: float = 0.0
     u_position_offset_m: float = 0.0
     shared: tuple[str, ...] = ()
@@ -275,6 +296,7 @@ class CalibrationSet:
     _budget: Budget = field(default=None, init=False, repr=False, compare=False)  # type: ignore[assignment]
     _notes: tuple[str, ...] = field(default=(), init=False, repr=False, compare=False)
     _ref_values: tuple[float, ...] = field(default=(), init=False, repr=False, compare=False)
+    _ranked_nonlinear: tuple[str, ...] = field(default=(), init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         where = _WHERE
@@ -295,6 +317,8 @@ class CalibrationSet:
             object.__setattr__(self, n, _num(n, getattr(self, n), where))
         for n in ("u_zero_offset_t", "u_temperature_coefficient_per_k", "tilt_u_rad", "u_position_offset_m"):
             object.__setattr__(self, n, _num(n, getattr(self, n), where, nonneg=True))
+        if self.tilt_model not in TILT_MODELS:
+            raise InputError("tilt_model", self.tilt_model, f"one of {', '.join(map(repr, TILT_MODELS))}", where)
         if self.tilt_u_rad > 0.5:
             raise InputError("tilt_u_rad", self.tilt_u_rad, "a small angle in radians (<= 0.5 rad)", where)
         object.__setattr__(self, "shared", tuple(self.shared))
@@ -359,9 +383,11 @@ class CalibrationSet:
         if self.u_position_offset_m or self.position_offset_m:
             add(InputQuantity("dz_pos", self.position_offset_m, Normal(u=self.u_position_offset_m), unit="m",
                               source="fixture drawing", description="Hall element minus NMR sample position"))
+        axes = ("_x", "_y") if self.tilt_model == "two-angle" else ("",)
         if self.tilt_u_rad and not self.tilt_per_point:
-            add(InputQuantity("theta", 0.0, Normal(u=self.tilt_u_rad), unit="rad",
-                              description="probe alignment angle (one mounting)"))
+            for ax in axes:
+                add(InputQuantity(f"theta{ax}", 0.0, Normal(u=self.tilt_u_rad), unit="rad",
+                                  description=f"probe alignment angle{ax.replace('_', ' about ')} (one mounting)"))
 
         for i, p in enumerate(self.points, start=1):
             pw = f"calibration point {p.name!r}"
@@ -456,12 +482,13 @@ class CalibrationSet:
                 notes.append(f"point {p.name}: a gradient is given but no position difference between the NMR "
                              "sample and the Hall element, so it has no effect")
             if self.tilt_u_rad:
-                th = "theta"
-                if self.tilt_per_point:
-                    th = f"theta_{i}"
-                    add(InputQuantity(th, 0.0, Normal(u=self.tilt_u_rad), unit="rad",
-                                      description="probe alignment angle"))
-                seen_field = f"{seen_field} * cos({th})"
+                for ax in axes:
+                    th = f"theta{ax}"
+                    if self.tilt_per_point:
+                        th = f"theta{ax}_{i}"
+                        add(InputQuantity(th, 0.0, Normal(u=self.tilt_u_rad), unit="rad",
+                                          description=f"probe alignment angle{ax.replace('_', ' about ')}"))
+                    seen_field = f"{seen_field} * cos({th})"
             outputs[f"E_{i}"] = f"({ind}) - {seen_field}"
             measurands.append(Measurand(f"E_{i}", "T", f"error of the indication at point {p.name}"))
             if self.correction_factor:
@@ -514,6 +541,43 @@ class CalibrationSet:
             return Budget(model=model, inputs=inputs, measurand=ms[0], correlations=corr, simultaneous=sim)
         return Budget(model=model, inputs=inputs, measurands=ms, correlations=corr, simultaneous=sim)
 
+    def _second_order_share(self, gum_results: Sequence[BudgetResult], nonlinear: Sequence[str]) -> \
+            tuple[float, str]:
+        """Largest share of u_c^2 (first order) taken by the second-order effect of the ``nonlinear`` inputs.
+
+        For each such input ``c2 = f(x + u) - 2 f(x) + f(x - u)``, which is
+        ``d2f/dx2 u^2`` for a function smooth on that scale; its effect is the
+        variance ``c2^2 / 2`` of JCGM 100:2008 5.1.2 (note) plus the squared
+        bias ``(c2 / 2)^2`` (the second-order shift of the expectation).
+        Returns ``(share, output)``; ``(0.0, "")`` without such inputs.
+        """
+        if not nonlinear:
+            return 0.0, ""
+        model = self._budget.model
+        x0 = {q.symbol: q.estimate for q in self._budget.inputs}
+        f0 = np.array(model.evaluate_float(x0), dtype=float)
+        uc2 = np.array([r.standard_uncertainty ** 2 for r in gum_results])
+        effect = np.zeros(len(f0))
+        self_share: dict[str, float] = {}
+        for sym in nonlinear:
+            u = next(q.standard_uncertainty for q in self._budget.inputs if q.symbol == sym)
+            fp = np.array(model.evaluate_float({**x0, sym: x0[sym] + u}), dtype=float)
+            fm = np.array(model.evaluate_float({**x0, sym: x0[sym] - u}), dtype=float)
+            c2 = fp - 2 * f0 + fm
+            e = c2 * c2 / 2 + (c2 / 2) ** 2
+            effect += e
+            with np.errstate(divide="ignore", invalid="ignore"):
+                sh = np.where(uc2 > 0, e / np.where(uc2 > 0, uc2, 1.0), np.where(e > 0, np.inf, 0.0))
+            self_share[sym] = float(np.max(sh))
+        best, where = 0.0, ""
+        for j in range(len(gum_results)):
+            share = (math.inf if effect[j] > 0 else 0.0) if uc2[j] == 0 else float(effect[j] / uc2[j])
+            if share > best:
+                best, where = share, model.outputs[j]
+        ranked = sorted(self_share, key=lambda s: -self_share[s])
+        object.__setattr__(self, "_ranked_nonlinear", tuple(ranked))
+        return best, where
+
     def evaluate(self, propagation: str = "auto", *, trials: int = 200_000, seed: int | None = None) -> \
             CalibrationResult:
         """Evaluate every point and their covariance.
@@ -522,7 +586,10 @@ class CalibrationSet:
         ``"monte carlo"`` (JCGM 101; estimates are the means, the covariance
         the sample covariance), or ``"auto"``: Monte Carlo when some input has
         zero first-order sensitivity at its estimate but an uncertainty (the
-        probe tilt at theta = 0, a product of two zero estimates), else GUM.
+        probe tilt at theta = 0, a product of two zero estimates) *and* its
+        second-order effect is more than :data:`AUTO_THRESHOLD` of ``u_c^2`` at
+        some point (see the module docstring), else GUM.  The result's
+        ``propagation_reason`` says why the route was taken.
         """
         if propagation not in PROPAGATIONS:
             raise InputError("propagation", propagation, f"one of {', '.join(map(repr, PROPAGATIONS))}", _WHERE)
@@ -533,10 +600,27 @@ class CalibrationSet:
         own = [set(e.symbols) for e in self._budget.model.expressions]
         nonlinear = sorted({c.symbol for r, syms in zip(gum_results, own) for c in r.contributions
                             if c.symbol in syms and c.sensitivity == 0 and c.standard_uncertainty > 0})
-        use_mc = propagation == "monte carlo" or (propagation == "auto" and bool(nonlinear))
+        share, worst = self._second_order_share(gum_results, nonlinear)
+        ranked = list(self._ranked_nonlinear)
+        named = ", ".join(ranked[:4]) + (f" and {len(ranked) - 4} more" if len(ranked) > 4 else "")
+        outs = self._budget.model.outputs
+        if propagation == "monte carlo":
+            use_mc, reason = True, "Monte Carlo was asked for (propagation='monte carlo')"
+        elif propagation == "gum":
+            use_mc, reason = False, "first-order GUM was asked for (propagation='gum')"
+        elif not nonlinear:
+            use_mc, reason = False, ("auto: every input has a non-zero first-order sensitivity, so the first-order "
+                                     "law of propagation applies")
+        elif share > AUTO_THRESHOLD:
+            use_mc, reason = True, (f"auto: the zero-sensitivity inputs ({named}) matter: their "
+                                    f"second-order effect is {100 * share:.3g} % of u_c^2 at {worst} "
+                                    f"(> {100 * AUTO_THRESHOLD:g} %), so Monte Carlo (JCGM 101:2008)")
+        else:
+            use_mc, reason = False, (f"auto: the zero-sensitivity inputs ({named}) are negligible: "
+                                     f"their second-order effect is at most {100 * share:.2g} % of u_c^2 "
+                                     f"(<= {100 * AUTO_THRESHOLD:g} %), so first-order GUM")
         notes = list(self._notes)
         mc = None
-        outs = self._budget.model.outputs
         cov_gum = gum.covariance if isinstance(gum, VectorResult) else np.array([[gum.standard_uncertainty**2]])
         if use_mc:
             from fieldbudget.engine import montecarlo
@@ -553,17 +637,24 @@ class CalibrationSet:
             est = np.array([g.estimate for g in gum_results])
             cov = cov_gum
             method = "GUM law of propagation, first order (JCGM 100:2008 5.1, 5.2)"
-        if nonlinear:
-            txt = (f"inputs {', '.join(nonlinear)} have zero first-order sensitivity at their estimates: the "
+        if nonlinear and share > AUTO_THRESHOLD:
+            txt = (f"inputs {named} have zero first-order sensitivity at their estimates: the "
                    "first-order law of propagation underestimates their effect (no bias and no uncertainty from "
                    "them)")
             notes.append(txt + ("; the results are from Monte Carlo" if use_mc else
                                 "; use propagation='monte carlo' or 'auto'"))
-        if self.tilt_u_rad:
+        if self.tilt_u_rad and share > AUTO_THRESHOLD:
             u = self.tilt_u_rad
-            notes.append(f"probe tilt theta = 0 +- {u:g} rad: the mean of cos(theta) is exp(-u^2/2) = "
-                         f"{math.exp(-u * u / 2):.10g}, below 1 by about u^2/2 = {u * u / 2:.3g}, which first-order "
-                         "propagation misses; its distribution is one-sided")
+            if self.tilt_model == "two-angle":
+                var = ((1 + math.exp(-2 * u * u)) / 2) ** 2 - math.exp(-2 * u * u)
+                notes.append(f"probe tilt about two axes, each 0 +- {u:g} rad: the mean of cos(theta_x) cos(theta_y) "
+                             f"is exp(-u^2) = {math.exp(-u * u):.10g}, below 1 by about u^2 = {u * u:.3g}, with a "
+                             f"standard deviation of {math.sqrt(var):.3g} (about u^2), which first-order "
+                             "propagation misses; its distribution is one-sided")
+            else:
+                notes.append(f"probe tilt theta = 0 +- {u:g} rad: the mean of cos(theta) is exp(-u^2/2) = "
+                             f"{math.exp(-u * u / 2):.10g}, below 1 by about u^2/2 = {u * u / 2:.3g}, which "
+                             "first-order propagation misses; its distribution is one-sided")
         e_idx = [j for j, o in enumerate(outs) if o.startswith("E_")]
         k_idx = [j for j, o in enumerate(outs) if o.startswith("K_")]
         pres = []
@@ -592,7 +683,8 @@ class CalibrationSet:
         e_cov = cov[np.ix_(e_idx, e_idx)]
         return CalibrationResult(instrument=self.instrument, points=tuple(pres), propagation=method,
                                  covariance_=tuple(map(tuple, e_cov.tolist())), budget=self._budget, gum=gum,
-                                 monte_carlo=mc, resolution_t=self.resolution_t, warnings=tuple(notes))
+                                 monte_carlo=mc, resolution_t=self.resolution_t, warnings=tuple(notes),
+                                 propagation_reason=reason)
 
 
 def _second_order_u(budget: Budget, output: str) -> float | None:
@@ -696,6 +788,21 @@ class PointResult:
         return self.gum.coverage_probability
 
     @property
+    def propagation(self) -> str:
+        """``"monte carlo"`` where the point's E and U come from Monte Carlo, else ``"gum"``."""
+        return "gum" if self.monte_carlo is None else "monte carlo"
+
+    @property
+    def coverage_interval(self) -> tuple[float, float]:
+        """The coverage interval of E, T: Monte Carlo's probabilistically symmetric interval
+        (JCGM 101:2008 7.7; off-centre when the alignment term dominates), or ``E +- U``."""
+        if self.monte_carlo is not None:
+            lo, hi = self.monte_carlo.interval  # type: ignore[attr-defined]
+            return float(lo), float(hi)
+        u = self.expanded_uncertainty
+        return self.error - u, self.error + u
+
+    @property
     def validation(self) -> object | None:
         """JCGM 101:2008 clause 8 comparison of the first-order GUM result with Monte Carlo, if run."""
         return self.gum.validation
@@ -722,6 +829,7 @@ class PointResult:
         return {
             "name": self.name, "indication": self.indication, "reference": self.reference,
             "error": self.error, "u": self.u_error, "U": self.expanded_uncertainty,
+            "propagation": self.propagation, "coverage_interval": list(self.coverage_interval),
             "correction_factor": self.correction_factor, "u_correction_factor": self.u_correction_factor,
             "u_second_order": self.u_second_order, "gum": self.gum.to_dict(),
             "mc": None if self.monte_carlo is None else self.monte_carlo.to_dict(),  # type: ignore[attr-defined]
@@ -758,6 +866,7 @@ class CalibrationResult:
     monte_carlo: object | None = field(default=None, repr=False)
     resolution_t: float = 0.0
     warnings: tuple[str, ...] = ()
+    propagation_reason: str = ""
 
     @property
     def covariance(self) -> np.ndarray:
@@ -782,7 +891,7 @@ class CalibrationResult:
                          "error_T": r.value_text, "U_T": r.uncertainty_text,
                          "k": None if k is None else round(k, 2),
                          "correction_factor": p.correction_factor,
-                         "gum_validated": None if p.validation is None else bool(p.validation.passed)})
+                         "gum_validated": None if p.validation is None else p.validation.passed})
         return rows
 
     @property
@@ -811,7 +920,8 @@ class CalibrationResult:
         else:
             x = tuple(p.reference for p in self.points)
             y = tuple(p.reference + p.error for p in self.points)
-        fit = fit_polynomial(x, y, degree, x0=x0, scale=scale, x_unit="T", y_unit="T", **kw)
+        nus = tuple(p.effective_dof for p in self.points)
+        fit = fit_polynomial(x, y, degree, x0=x0, scale=scale, x_unit="T", y_unit="T", y_dof=nus, **kw)
         return CalibrationCurve(fit=fit, instrument=self.instrument, resolution_t=self.resolution_t, form=form,
                                 warnings=self.warnings + fit.warnings)
 
@@ -822,6 +932,7 @@ class CalibrationResult:
         return {
             "instrument": self.instrument,
             "propagation": self.propagation,
+            "propagation_reason": self.propagation_reason,
             "model": self.budget.model.text(),
             "points": [p.to_dict() for p in self.points],
             "covariance": [list(r) for r in self.covariance_],
@@ -854,6 +965,7 @@ class FieldPrediction:
     u_reading: float
     inside_range: bool
     warnings: tuple[str, ...] = ()
+    dof: float = math.inf
 
     def __repr__(self) -> str:
         flag = "" if self.inside_range else ", outside calibrated range"
@@ -863,12 +975,13 @@ class FieldPrediction:
     def to_dict(self) -> dict:
         return {"reading": self.reading, "corrected": self.corrected, "u": self.standard_uncertainty,
                 "u_curve": self.u_curve, "u_reading": self.u_reading, "inside_range": self.inside_range,
-                "warnings": list(self.warnings)}
+                "dof": None if math.isinf(self.dof) else self.dof, "warnings": list(self.warnings)}
 
     def _repr_html_(self) -> str:
         rows = [("reading", f"{self.reading:.8g} T"), ("corrected field", f"{self.corrected:.8g} T"),
                 ("standard uncertainty", f"{self.standard_uncertainty:.2g} T"),
                 ("from the curve", f"{self.u_curve:.2g} T"), ("from the reading", f"{self.u_reading:.2g} T"),
+                ("effective degrees of freedom", _display.fmt_dof(self.dof)),
                 ("inside calibrated range", "yes" if self.inside_range else "no")]
         rows += [("warning", w) for w in self.warnings]
         return _display.html_block("Corrected field", _display.html_table(("item", "value"), rows))
@@ -894,6 +1007,9 @@ class CalibrationCurve:
         standard uncertainty of the new reading itself (T), default the
         resolution alone, ``resolution / (2 sqrt 3)``.  Outside the calibrated
         range a :class:`CalibrationRangeWarning` is raised and the result says so.
+        The result's ``dof`` are the effective degrees of freedom of its u
+        (Welch-Satterthwaite over the curve and the reading, see
+        :meth:`CurveFit._prediction_dof`).
         """
         if not (isinstance(reading_t, (int, float, np.floating)) and math.isfinite(reading_t)):
             raise InputError("reading_t", reading_t, "a finite number (T)", _WHERE)
@@ -905,7 +1021,8 @@ class CalibrationCurve:
             p = self.fit.predict(r, u_extra=u_r, _stacklevel=3)
             return FieldPrediction(reading=r, corrected=r - p.value, standard_uncertainty=p.standard_uncertainty,
                                    u_curve=p.uncertainty_from_curve, u_reading=float(u_r),
-                                   inside_range=p.inside_range, warnings=p.warnings)
+                                   inside_range=p.inside_range, warnings=p.warnings,
+                                   dof=math.inf if p.dof is None else p.dof)
         a = self.fit.coefficient_array
         x0 = self.fit.x0
         da = np.array([j * a[j] for j in range(1, len(a))])
@@ -927,9 +1044,13 @@ class CalibrationCurve:
                              _WHERE)
         d = abs(slope(b))
         p = self.fit.predict(b, _stacklevel=3)
-        return FieldPrediction(reading=r, corrected=b, standard_uncertainty=math.hypot(p.standard_uncertainty, u_r) / d,
+        nu_c = math.inf if p.dof is None else p.dof
+        u_tot = math.hypot(p.standard_uncertainty, u_r)
+        nu = (math.inf if math.isinf(nu_c) or p.standard_uncertainty == 0
+              else nu_c * (u_tot / p.standard_uncertainty) ** 4)  # Welch-Satterthwaite, JCGM 100:2008 G.4.1
+        return FieldPrediction(reading=r, corrected=b, standard_uncertainty=u_tot / d,
                                u_curve=p.standard_uncertainty / d, u_reading=float(u_r) / d,
-                               inside_range=p.inside_range, warnings=p.warnings)
+                               inside_range=p.inside_range, warnings=p.warnings, dof=nu)
 
     def __repr__(self) -> str:
         return f"<CalibrationCurve {self.instrument or 'instrument'} ({self.form} form): {self.fit!r}>"

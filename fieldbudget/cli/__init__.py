@@ -17,11 +17,19 @@ from ..errors import FieldbudgetError
 __all__ = ["main", "COMMANDS"]
 
 # Order is the order of `fieldbudget --help`.
-COMMANDS = ("evaluate", "larmor", "nmr", "record", "verify", "compare", "report", "demo")
+COMMANDS = ("evaluate", "larmor", "nmr", "line", "map", "calibrate", "record", "verify", "sign", "key", "compare",
+            "report", "certificate", "demo", "register", "archive", "monitor")
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse, but a usage mistake is one line on stderr (no usage block) and exit status 2."""
+
+    def error(self, message: str):
+        self.exit(2, f"{self.prog}: {message} (see {self.prog} --help)\n")
 
 
 def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="fieldbudget",
         description="Uncertainty budgets for NMR field measurements and field-instrument calibrations.",
     )
@@ -39,7 +47,10 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as stop:  # --help, --version, or a usage mistake (already printed on one line)
+        return int(stop.code or 0) if not isinstance(stop.code, str) else 2
     try:
         return int(args._run(args) or 0)
     except FieldbudgetError as err:

@@ -38,6 +38,9 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 def run(args: argparse.Namespace) -> int:
     unit = normalise_unit(args.unit, "UNIT", "")
     kind = unit_kind(unit)
+    if kind in ("frequency", "flux density") and not args.value > 0:  # nan fails this too
+        what = "frequency" if kind == "frequency" else "flux density (the magnitude of B)"
+        raise InputError("VALUE", args.value, f"a {what} > 0 {unit}, finite")
     if kind == "frequency":
         out = larmor_field(convert(args.value, unit, "Hz"), args.nucleus, args.codata)
     elif kind == "flux density":

@@ -1,11 +1,18 @@
-"""``fieldbudget record FILE -o RECORD``: evaluate a budget file and archive its record."""
+"""``fieldbudget record FILE -o RECORD``: evaluate a budget file and archive its record.
+
+An existing file at ``-o`` is never replaced, except by its own next
+revision: ``-o R --previous R --reason TEXT`` (same measurand).
+"""
 
 from __future__ import annotations
 
 import argparse
 
+from ..errors import InputError
 from ..files.budget_file import load_budget
+from ..files.guard import check_output, same_file
 from ..files.record import load_record, make_record, save_record
+from ._passphrase import add_passphrase_option, load_key
 
 __all__ = ["add_parser", "run"]
 
@@ -14,7 +21,9 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p = sub.add_parser("record", help="evaluate a budget file and write its hash-stamped record",
                        description="Evaluate a budget file (GUM, and Monte Carlo with --monte-carlo) and write a "
                                    "record: budget, results, settings, software versions, operator, UTC time "
-                                   "stamp and a SHA-256 digest. The file is written atomically.")
+                                   "stamp and a SHA-256 digest, signed with --sign. The file is written "
+                                   "atomically and an existing file is never replaced, except by its own next "
+                                   "revision (-o R --previous R --reason TEXT).")
     p.add_argument("file", help="budget file (JSON)")
     p.add_argument("-o", "--output", required=True, metavar="RECORD", help="record file to write (JSON)")
     p.add_argument("--monte-carlo", type=int, metavar="M", default=None,
@@ -24,21 +33,53 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p.add_argument("--operator", default="", help="who made the evaluation")
     p.add_argument("--remarks", default="", help="free remarks kept in the record")
     p.add_argument("--previous", metavar="OLD_RECORD", default=None,
-                   help="the previous revision of the same budget: the new record gets the next revision "
-                        "number and a list of what changed")
+                   help="the previous revision of the same measurand: the new record gets the next revision "
+                        "number and a list of what changed (needs --reason)")
+    p.add_argument("--reason", default="", help="why this revision was made (goes into the change log)")
+    p.add_argument("--sign", metavar="KEY", default=None, help="sign the record with this private key file")
+    add_passphrase_option(p)
     return p
 
 
 def run(args: argparse.Namespace) -> int:
-    budget = load_budget(args.file)
+    if args.monte_carlo is not None and args.monte_carlo < 1:
+        raise InputError("--monte-carlo", args.monte_carlo, "a number of trials >= 1")
+    if args.seed is not None and args.seed < 0:
+        raise InputError("--seed", args.seed, "a whole number >= 0")
+    if args.previous is None and args.reason:
+        raise InputError("--reason", args.reason, "given only with --previous (the revision it explains)")
+    if args.previous is not None and not args.reason.strip():
+        raise InputError("--reason", args.reason, "a text saying why this revision was made (with --previous)")
+    own_revision = args.previous is not None and same_file(args.output, args.previous)
+    check_output(args.output, inputs=(("budget file", args.file),), record_ok=own_revision, force=True,
+                 what="record")
+    from pathlib import Path
+
+    if Path(args.output).exists() and not own_revision:  # an existing non-record file: a record needs a new name
+        raise InputError("-o", args.output, "a new file (records never replace a file; the next revision of "
+                         "record R is written with -o R --previous R --reason TEXT)")
+    key = load_key(args, args.sign) if args.sign else None
+    from ..files.budget_file import read_json  # noqa: I001
+    from ..files.calibration_file import FORMAT, load_calibration
+
+    doc = read_json(args.file)
+    if isinstance(doc, dict) and doc.get("format") == FORMAT:
+        budget = load_calibration(args.file)  # a calibration file: recorded with its points, curve and conformity
+    else:
+        budget = load_budget(args.file)
     previous = load_record(args.previous) if args.previous else None
     rec = make_record(budget, monte_carlo=args.monte_carlo, seed=args.seed, operator=args.operator,
-                      remarks=args.remarks, previous=previous)
+                      remarks=args.remarks, previous=previous, reason=args.reason, sign=key)
     path = save_record(rec, args.output)
     print(f"{path}: revision {rec.revision}, {rec.statement.split('. ')[0]}")
+    if not hasattr(rec, "monte_carlo"):  # a calibration or several-output record
+        print(f"SHA-256 {rec.digest}")
+        return 0
     if rec.monte_carlo:
         print(f"Monte Carlo: {rec.monte_carlo['trials']} trials, seed {rec.monte_carlo['seed']}")
     for c in rec.changes:
         print(f"changed: {c['change']} {c['what']}: {c['detail']}")
+    for s in rec.signatures:
+        print(f"signed by {s['name']} ({s['role']}) at {s['time']}, key {s['fingerprint'][:16]}")
     print(f"SHA-256 {rec.digest}")
     return 0

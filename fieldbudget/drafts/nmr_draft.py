@@ -232,7 +232,16 @@ class NMRDraft(Observable):
     """
 
     def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] = NMR_FIELDS,
-                 base_dir: str | Path = ".", choices: Mapping[str, tuple] | None = None) -> None:
+                 base_dir: str | Path = ".", choices: Mapping[str, tuple] | None = None,
+                 lab: Any = None, accept_expired: Mapping[str, str] | None = None) -> None:
+        # a laboratory folder: sections naming a register instrument are resolved before the NMR loader
+        self.lab = None
+        if lab is not None:
+            from ..lab import LabFolder, lab_folder
+
+            self.lab = lab if isinstance(lab, LabFolder) else lab_folder(lab)
+        self.accept_expired = dict(accept_expired or {})
+        self.register_notes: tuple = ()
         self.base = copy.deepcopy(dict(measurement or {}))
         self.base_dir = str(base_dir)
         self.choices = dict(default_choices() if choices is None else choices)
@@ -261,7 +270,9 @@ class NMRDraft(Observable):
     @classmethod
     def from_file(cls, path: str | Path) -> NMRDraft:
         p = Path(path)
-        return cls(json.loads(p.read_text(encoding="utf-8")), base_dir=p.parent)
+        from .._io import read_json_file
+
+        return cls(read_json_file(p, what="measurement file"), base_dir=p.parent)
 
     # -- listeners ---------------------------------------------------------------------
     def _changed(self) -> None:
@@ -410,7 +421,13 @@ class NMRDraft(Observable):
         try:
             from ..nmr.measurement import NMRMeasurement
 
-            m = NMRMeasurement.from_dict(self.description(), where="measurement", base_dir=self.base_dir)
+            description, notes = self.description(), ()
+            if self.lab is not None:
+                from ..lab.register import load_register, resolve_instruments
+
+                description, notes = resolve_instruments(description, load_register(self.lab),
+                                                         accept_expired=self.accept_expired)
+            m = NMRMeasurement.from_dict(description, where="measurement", base_dir=self.base_dir)
             res = m.evaluate()
         except FieldbudgetError as err:
             self._place(err)
@@ -419,7 +436,7 @@ class NMRDraft(Observable):
             _log.exception("internal error while rebuilding %r", self)
             self.general_error = message_for(err)
             return False
-        self.measurement, self.nmr_result = m, res
+        self.measurement, self.nmr_result, self.register_notes = m, res, notes
         self.last_good_budget, self.last_good_result = res.budget, res.result
         self._place_warnings(res.nmr_warnings, getattr(res, "findings", ()) or ())
         self.current = True

@@ -23,12 +23,20 @@ from .distributions import TypeA
 from .model import Model
 from .quantities import InputQuantity
 
-__all__ = ["Budget", "Measurand", "COVERAGE_POLICIES", "DOF_ROUNDING"]
+__all__ = ["Budget", "Measurand", "COVERAGE_POLICIES", "DOF_ROUNDING", "READINGS_EVALUATIONS", "UNIT_CHECKS"]
 
 COVERAGE_POLICIES = ("t", "fixed")
 DOF_ROUNDING = ("truncate", "interpolate")
+#: How an output whose inputs are all readings of one simultaneous group is evaluated:
+#: "per_set" computes the output for each set of readings and evaluates it by Type A (JCGM 100:2008 H.2,
+#: second approach); "propagation" propagates the means with their data correlations (H.2, first approach).
+READINGS_EVALUATIONS = ("per_set", "propagation")
+#: "checked": units are parsed and the model is checked for dimensional consistency before evaluation;
+#: "unchecked": for budgets written without (or with free-text) units.
+UNIT_CHECKS = ("checked", "unchecked")
 _TOP_KEYS = {"model", "inputs", "measurand", "measurands", "correlations", "simultaneous", "coverage_probability",
-             "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format", "second_order"}
+             "coverage_policy", "coverage_factor", "dof_rounding", "title", "metadata", "format", "second_order",
+             "readings_evaluation", "units"}
 FILE_FORMAT = "fieldbudget-budget/1"
 
 
@@ -64,6 +72,9 @@ class Measurand:
     def __post_init__(self) -> None:
         if not isinstance(self.symbol, str) or not self.symbol.isidentifier():
             raise InputError("measurand symbol", self.symbol, "a name made of letters, digits and _")
+        for name in ("unit", "description"):
+            if not isinstance(getattr(self, name), str):
+                raise InputError(f"measurand {name}", getattr(self, name), "a text string")
 
     def to_dict(self) -> dict:
         d = {"symbol": self.symbol, "unit": self.unit}
@@ -100,6 +111,17 @@ class Budget:
         Include the second-order terms of the Taylor series in u_c (JCGM 100:2008
         5.1.2, note), for a model whose nonlinearity matters, e.g. a product of
         two inputs with zero estimates.  Uncorrelated inputs, one output.
+    readings_evaluation : 'per_set' or 'propagation'
+        For an output whose inputs are all readings of one ``simultaneous``
+        group: 'per_set' (default) evaluates the output computed for each set
+        by Type A, with n - 1 degrees of freedom (JCGM 100:2008 H.2, second
+        approach); 'propagation' propagates the means with the correlations of
+        the data (H.2, first approach).
+    units : 'checked' or 'unchecked'
+        'checked' (default): every unit is parsed (pint) and the model is
+        checked for dimensional consistency, scaled units of one dimension are
+        converted to one unit (see :mod:`fieldbudget.engine.dimensions`);
+        'unchecked' skips this, for budgets written without units.
     metadata : mapping
         Free facts recorded with the budget (CODATA edition, procedure, ...).
     """
@@ -117,6 +139,8 @@ class Budget:
     second_order: bool = False
     title: str = ""
     metadata: Mapping[str, object] = field(default_factory=dict)
+    readings_evaluation: str = "per_set"
+    units: str = "checked"
 
     def __post_init__(self) -> None:
         model = Model.from_expression(self.model) if isinstance(self.model, str) else self.model
@@ -164,6 +188,8 @@ class Budget:
         object.__setattr__(self, "inputs", inputs)
         object.__setattr__(self, "measurands", measurands)
         object.__setattr__(self, "measurand", measurands[0] if len(measurands) == 1 else None)
+        if not isinstance(self.title, str):
+            raise InputError("title", self.title, "a text string")
         # coverage
         p = self.coverage_probability
         if isinstance(p, bool) or not isinstance(p, (int, float)) or not (0 < p < 1):
@@ -177,6 +203,10 @@ class Budget:
             raise InputError("dof_rounding", self.dof_rounding, f"one of {DOF_ROUNDING}")
         if not isinstance(self.second_order, bool):
             raise InputError("second_order", self.second_order, "true or false")
+        if self.readings_evaluation not in READINGS_EVALUATIONS:
+            raise InputError("readings_evaluation", self.readings_evaluation, f"one of {READINGS_EVALUATIONS}")
+        if self.units not in UNIT_CHECKS:
+            raise InputError("units", self.units, f"one of {UNIT_CHECKS} ('unchecked' for a budget without units)")
         object.__setattr__(self, "metadata", FrozenMapping(self.metadata))
         # correlations
         corr = []
@@ -314,6 +344,10 @@ class Budget:
             d["dof_rounding"] = self.dof_rounding
         if self.second_order:
             d["second_order"] = True
+        if self.readings_evaluation != "per_set":
+            d["readings_evaluation"] = self.readings_evaluation
+        if self.units != "checked":
+            d["units"] = self.units
         if self.metadata:
             d["metadata"] = dict(self.metadata)
         return d
@@ -338,7 +372,8 @@ class Budget:
             try:
                 inputs.append(InputQuantity.from_dict(sym, spec, where=f"input {sym!r}"))
             except InputError as err:
-                raise BudgetFileError(where, f"#/inputs/{sym}/{err.field}",
+                at = f"#/inputs/{sym}" if err.field == sym else f"#/inputs/{sym}/{err.field}"
+                raise BudgetFileError(where, at,
                                       f"{err.field} must be {err.allowed} (got {err.value!r})") from None
         raw_model = d["model"]
         try:
@@ -379,12 +414,12 @@ class Budget:
         if not isinstance(md, Mapping):
             raise BudgetFileError(where, "#/metadata", "must be an object")
         for key in ("coverage_probability", "coverage_policy", "coverage_factor", "dof_rounding", "title",
-                    "second_order"):
+                    "second_order", "readings_evaluation", "units"):
             if key in d:
                 kw[key] = d[key]
         try:
-            return cls(model=model, inputs=tuple(inputs), correlations=tuple(tuple(c) for c in corr),
-                       simultaneous=tuple(tuple(g) for g in sim), metadata=md, **kw)
+            budget = cls(model=model, inputs=tuple(inputs), correlations=tuple(tuple(c) for c in corr),
+                         simultaneous=tuple(tuple(g) for g in sim), metadata=md, **kw)
         except CorrelationError as err:
             pointer = "#/correlations" if err.field.startswith("correlation") else "#/simultaneous"
             raise BudgetFileError(where, pointer, f"{err.field} must be {err.allowed} (got {err.value!r})") from None
@@ -394,7 +429,26 @@ class Budget:
             raise BudgetFileError(where, f"#/{err.field}", f"must be {err.allowed} (got {err.value!r})") from None
         except FieldbudgetError:
             raise
+        _check_units_for_file(budget, where)
+        return budget
 
     def __repr__(self) -> str:
         m = self.model.text()
         return f"<Budget {m!r}, {len(self.inputs)} inputs, p = {self.coverage_probability:g}>"
+
+
+def _check_units_for_file(budget: Budget, where: str) -> None:
+    """The dimensional check of :mod:`.dimensions`, its errors pointing into the budget file."""
+    from .dimensions import prepare
+
+    try:
+        prepare(budget)
+    except ExpressionError as err:
+        raise BudgetFileError(where, "#/model", f"must be {err.allowed} (got {err.value!r})") from None
+    except InputError as err:
+        kind, _, name = err.where.partition(" ")
+        name = name.strip("'\"")
+        pointer = f"#/inputs/{name}/unit" if kind == "input" else "#/measurand/unit"
+        if kind != "input" and len(budget.measurands) > 1:
+            pointer = f"#/measurands/{name}/unit"
+        raise BudgetFileError(where, pointer, f"{err.field} must be {err.allowed} (got {err.value!r})") from None

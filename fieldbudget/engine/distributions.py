@@ -20,6 +20,7 @@ dof = 1/2 * (Delta u / u)^-2 (GUM G.4.2, eq. G.3); infinite by default.
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass, field
 from typing import ClassVar
 
@@ -40,10 +41,19 @@ __all__ = [
 INF = math.inf
 
 
+def _is_number(value: object) -> bool:
+    """A real number: int, float or a numpy scalar; never a bool or a text (``"2e-7"`` is not a number)."""
+    if isinstance(value, (bool, str, bytes)):
+        return False
+    return isinstance(value, numbers.Real)
+
+
 def _finite_nonneg(name: str, value: object, where: str) -> float:
     try:
+        if not _is_number(value):
+            raise TypeError
         x = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
+    except (TypeError, ValueError, OverflowError):
         raise InputError(name, value, "a finite number >= 0", where) from None
     if isinstance(value, bool) or not math.isfinite(x) or x < 0:
         raise InputError(name, value, "a finite number >= 0", where)
@@ -54,8 +64,10 @@ def _check_dof(dof: object, where: str) -> float:
     if dof is None:
         return INF
     try:
+        if not _is_number(dof):
+            raise TypeError
         x = float(dof)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
+    except (TypeError, ValueError, OverflowError):
         raise InputError("dof", dof, "a number > 0 or infinite", where) from None
     if math.isnan(x) or x <= 0:
         raise InputError("dof", dof, "a number > 0 or infinite", where)
@@ -68,7 +80,7 @@ def dof_from_reliability(relative_uncertainty_of_u: float) -> float:
     JCGM 100:2008 G.4.2, eq. (G.3): nu = (1/2) (Delta u / u)^-2.  For example
     25 % gives 8, 10 % gives 50, 50 % gives 2 (the values used in H.1).
     """
-    r = float(relative_uncertainty_of_u)
+    r = float(relative_uncertainty_of_u) if _is_number(relative_uncertainty_of_u) else math.nan
     if not math.isfinite(r) or r <= 0:
         raise InputError("relative uncertainty of the uncertainty", relative_uncertainty_of_u, "a finite number > 0")
     return 0.5 / (r * r)
@@ -122,8 +134,10 @@ class Normal(Distribution):
         """u = U / k (JCGM 100:2008 4.3.4)."""
         U = _finite_nonneg("expanded", expanded, where)
         try:
+            if not _is_number(k):
+                raise TypeError
             kk = float(k)
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):
             raise InputError("k", k, "a finite number > 0", where) from None
         if not math.isfinite(kk) or kk <= 0:
             raise InputError("k", k, "a finite number > 0", where)
@@ -242,9 +256,11 @@ class TypeA(Distribution):
     readings: tuple[float, ...] = ()
 
     def __post_init__(self) -> None:
+        if isinstance(self.readings, (str, bytes)) or not all(_is_number(v) for v in self.readings):
+            raise InputError("readings", self.readings, "a list of numbers", self.where)
         try:
             vals = tuple(float(v) for v in self.readings)
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):
             raise InputError("readings", self.readings, "a list of numbers", self.where) from None
         if len(vals) == 0:
             raise InputError("readings", list(self.readings), "a list of at least 2 readings", self.where)
@@ -257,6 +273,13 @@ class TypeA(Distribution):
         if not all(math.isfinite(v) for v in vals):
             raise InputError("readings", list(vals), "finite numbers", self.where)
         object.__setattr__(self, "readings", vals)
+        try:
+            s = self.experimental_standard_deviation
+        except OverflowError:
+            s = math.inf
+        if not math.isfinite(s) or not math.isfinite(self.mean):
+            raise InputError("readings", f"{len(vals)} readings up to {max(map(abs, vals)):.3g}",
+                             "numbers whose mean and standard deviation fit in a double (these overflow)", self.where)
 
     @property
     def n(self) -> int:

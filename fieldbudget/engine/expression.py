@@ -9,17 +9,31 @@ node is checked against a whitelist: numbers, the input symbols, ``pi``,
 in :data:`FUNCTIONS`.  Attribute access, subscripts, keywords, comparisons,
 lambdas and every other construct are refused with an error that names the
 position in the text.
+
+Checking and evaluation walk the tree with an explicit stack (the tree is
+turned once into a postfix program), so a long flat model of thousands of
+terms evaluates without deep recursion; nesting itself (parentheses, signs
+in a row, powers of powers) is limited to :data:`MAX_NESTING` levels and a
+model nested deeper is refused with that limit, never a RecursionError.
+Models are real-valued: ``x**y`` with a negative base and a fractional power
+is refused at the estimates.
 """
 
 from __future__ import annotations
 
 import ast
 import math
+import re
 from collections.abc import Callable, Mapping, Sequence
 
-from ..errors import ExpressionError
+from ..errors import ExpressionError, ModelEvaluationError
 
-__all__ = ["Expression", "FUNCTIONS", "CONSTANTS", "parse_expression"]
+__all__ = ["Expression", "FUNCTIONS", "CONSTANTS", "MAX_NESTING", "MAX_LENGTH", "parse_expression"]
+
+#: Deepest nesting accepted (parentheses, unary signs in a row, calls and powers inside each other).
+MAX_NESTING = 100
+#: Longest model text accepted (characters).
+MAX_LENGTH = 1_000_000
 
 # name -> number of arguments
 FUNCTIONS: dict[str, int] = {
@@ -80,24 +94,35 @@ class Expression:
         Context for error messages (e.g. ``"model"`` or a file name).
     """
 
-    __slots__ = ("text", "symbols", "_tree", "_where")
+    __slots__ = ("text", "symbols", "_tree", "_where", "_program")
 
     def __init__(self, text: str, allowed_symbols: Sequence[str] | None = None, where: str = "") -> None:
         if not isinstance(text, str) or not text.strip():
             raise ExpressionError("model", text, "a non-empty expression string", where)
         self.text = text.strip()
         self._where = where
+        if len(self.text) > MAX_LENGTH:
+            raise ExpressionError("model", f"{len(self.text)} characters", f"at most {MAX_LENGTH} characters", where)
+        depth = _text_nesting(self.text)
+        if depth > MAX_NESTING:
+            raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep "
+                                  f"(parentheses, signs in a row, powers of powers; this one is nested {depth})", where)
         try:
-            tree = ast.parse(self.text, mode="eval")
+            tree = _parse(self.text)
         except SyntaxError as err:
             col = (err.offset or 1) - 1
             raise ExpressionError(
-                "model", self.text, f"valid arithmetic (syntax error at column {col + 1}: {err.msg})", where, col
+                "model", _shorten(self.text), f"valid arithmetic (syntax error at column {col + 1}: {err.msg})",
+                where, col
             ) from None
+        except (RecursionError, MemoryError):
+            raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep",
+                                  where) from None
         symbols: list[str] = []
         self._check(tree.body, symbols, allowed_symbols)
         self.symbols = tuple(symbols)
         self._tree = tree.body
+        self._program = _compile(tree.body)
 
     def __repr__(self) -> str:
         return f"Expression({self.text!r})"
@@ -106,18 +131,26 @@ class Expression:
     def _fail(self, node: ast.AST, what: str) -> None:
         col = getattr(node, "col_offset", None)
         at = f" at column {col + 1}" if col is not None else ""
-        raise ExpressionError("model", self.text, f"{what}{at}", self._where, col)
+        raise ExpressionError("model", _shorten(self.text), f"{what}{at}", self._where, col)
 
-    def _check(self, node: ast.AST, symbols: list[str], allowed: Sequence[str] | None) -> None:
+    def _check(self, root: ast.AST, symbols: list[str], allowed: Sequence[str] | None) -> None:
+        # explicit stack, children pushed in reverse so symbols are listed left to right
+        stack = [root]
+        while stack:
+            node = stack.pop()
+            for child in reversed(self._check_node(node, symbols, allowed)):
+                stack.append(child)
+
+    def _check_node(self, node: ast.AST, symbols: list[str], allowed: Sequence[str] | None) -> list:
+        """Check one node; return the children still to be checked."""
         if isinstance(node, ast.BinOp):
             if type(node.op) not in _BINOPS:
                 self._fail(node, "built from + - * / ** only (operator not allowed")
-            self._check(node.left, symbols, allowed)
-            self._check(node.right, symbols, allowed)
+            return [node.left, node.right]
         elif isinstance(node, ast.UnaryOp):
             if not isinstance(node.op, (ast.USub, ast.UAdd)):
                 self._fail(node, "built from + - * / ** only (unary operator not allowed)")
-            self._check(node.operand, symbols, allowed)
+            return [node.operand]
         elif isinstance(node, ast.Constant):
             if isinstance(node.value, bool) or not isinstance(node.value, (int, float)):
                 self._fail(node, f"arithmetic on numbers and symbols (literal {node.value!r} not allowed)")
@@ -126,7 +159,7 @@ class Expression:
             if name in FUNCTIONS:
                 self._fail(node, f"a call of {name}(...) ({name!r} is a function, not a value)")
             if name in CONSTANTS:
-                return
+                return []
             if name.startswith("__"):
                 self._fail(node, f"free of dunder names ({name!r} is not allowed)")
             if allowed is not None and name not in allowed:
@@ -150,11 +183,12 @@ class Expression:
             for a in node.args:
                 if isinstance(a, ast.Starred):
                     self._fail(a, f"calling {fname}() without *arguments")
-                self._check(a, symbols, allowed)
+            return list(node.args)
         elif isinstance(node, ast.Attribute):
             self._fail(node, "free of attribute access ('.' is not allowed)")
         else:
             self._fail(node, f"plain arithmetic ({type(node).__name__} is not allowed)")
+        return []
 
     # -- evaluation ---------------------------------------------------------------
     def evaluate(self, values: Mapping[str, object], backend: str = "numpy") -> object:
@@ -163,34 +197,172 @@ class Expression:
         ``backend`` picks the function set: ``"numpy"`` (floats and arrays) or
         ``"umath"`` (``uncertainties`` numbers, for exact derivatives).
         """
-        return _eval(self._tree, values, _functions(backend))
+        return _run(self._program, values, _functions(backend))
+
+
+def _shorten(text: str, n: int = 80) -> str:
+    return text if len(text) <= n else text[: n - 3] + "..."
+
+
+def _parse(text: str) -> ast.Expression:
+    """``ast.parse``; a long flat chain (thousands of terms) is parsed in a thread with room to recurse.
+
+    CPython builds the tree of ``a + b + c + ...`` recursively, one level per
+    term.  The nesting check has already bounded the real nesting, so only
+    such flat chains get here, and they are parsed with a larger recursion
+    limit on a thread with a large stack.
+    """
+    try:
+        return ast.parse(text, mode="eval")
+    except RecursionError:
+        pass
+    import sys
+    import threading
+
+    result: list = []
+
+    def work() -> None:
+        old = sys.getrecursionlimit()
+        sys.setrecursionlimit(max(old, 4 * len(_TOKENS.findall(text)) + 1000))
+        try:
+            result.append(ast.parse(text, mode="eval"))
+        except BaseException as err:  # noqa: BLE001 - handed back to the caller's thread
+            result.append(err)
+        finally:
+            sys.setrecursionlimit(old)
+
+    size = threading.stack_size()
+    try:
+        threading.stack_size(512 * 1024 * 1024)
+        t = threading.Thread(target=work, name="fieldbudget-parse")
+        t.start()
+    finally:
+        threading.stack_size(size)
+    t.join()
+    if isinstance(result[0], BaseException):
+        raise result[0]
+    return result[0]
+
+
+_TOKENS = re.compile(r"\*\*|[-+*/(),]|[^-+*/(),\s]+")
+
+
+def _text_nesting(text: str) -> int:
+    """Roughly the nesting the text asks for: open parentheses + signs in a row + ``**`` chains.
+
+    Counted on the tokens before parsing, so the parser never recurses that
+    deep; a long flat sum or product counts 1 however many terms it has.
+    """
+    chains = [0]  # length of the current ``**`` chain at each parenthesis level
+    total = deepest = signs = 0  # total = sum(chains), kept as we go
+    prev = "("
+    for tok in _TOKENS.findall(text):
+        if tok in "+-" and prev in ("(", ",", "+", "-", "*", "/", "**"):
+            signs += 1
+        else:
+            signs = 0 if tok not in "+-" else signs
+            if tok == "(":
+                chains.append(0)
+            elif tok == ")":
+                if len(chains) > 1:
+                    total -= chains.pop()
+            elif tok == "**":
+                chains[-1] += 1
+                total += 1
+            elif tok in ("+", "-", "*", "/", ","):
+                total -= chains[-1]
+                chains[-1] = 0
+        deepest = max(deepest, len(chains) - 1 + total + signs)
+        prev = tok
+    return deepest
+
+
+# postfix program: ("c", value) | ("n", name) | ("b", op) | ("u", negate) | ("f", name, nargs)
+def _compile(root: ast.AST) -> tuple:
+    out: list = []
+    stack: list = [(root, False)]
+    while stack:
+        node, done = stack.pop()
+        if isinstance(node, ast.BinOp):
+            if done:
+                out.append(("b", type(node.op)))
+            else:
+                stack += [(node, True), (node.right, False), (node.left, False)]
+        elif isinstance(node, ast.UnaryOp):
+            if done:
+                out.append(("u", isinstance(node.op, ast.USub)))
+            else:
+                stack += [(node, True), (node.operand, False)]
+        elif isinstance(node, ast.Constant):
+            out.append(("c", float(node.value)))
+        elif isinstance(node, ast.Name):
+            out.append(("n", node.id))
+        else:
+            assert isinstance(node, ast.Call) and isinstance(node.func, ast.Name)
+            if done:
+                out.append(("f", node.func.id, len(node.args)))
+            else:
+                stack.append((node, True))
+                stack += [(a, False) for a in reversed(node.args)]
+    return tuple(out)
+
+
+def _scalar(x: object) -> float | None:
+    v = getattr(x, "nominal_value", x)
+    return float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else None
+
+
+def _power(a: object, b: object) -> object:
+    base, exponent = _scalar(a), _scalar(b)
+    if (base is not None and exponent is not None and base < 0 and math.isfinite(exponent)
+            and exponent != int(exponent)):
+        raise ModelEvaluationError(
+            f"x**y with a negative base ({base!r}) and a fractional power ({exponent!r}) has no real value; models "
+            "are real-valued (write the model so that the base is positive, e.g. -(abs(x)**y))")
+    r = a ** b  # type: ignore[operator]
+    if isinstance(r, complex):
+        raise ModelEvaluationError("x**y gives a complex number here; models are real-valued")
+    return r
+
+
+def _run(program: tuple, env: Mapping[str, object], funcs: Mapping[str, Callable]) -> object:
+    stack: list = []
+    push, pop = stack.append, stack.pop
+    for step in program:
+        kind = step[0]
+        if kind == "n":
+            name = step[1]
+            push(env[name] if name in env else CONSTANTS[name])
+        elif kind == "c":
+            push(step[1])
+        elif kind == "b":
+            b = pop()
+            a = pop()
+            op = step[1]
+            if op is ast.Add:
+                push(a + b)  # type: ignore[operator]
+            elif op is ast.Sub:
+                push(a - b)  # type: ignore[operator]
+            elif op is ast.Mult:
+                push(a * b)  # type: ignore[operator]
+            elif op is ast.Div:
+                push(a / b)  # type: ignore[operator]
+            else:
+                push(_power(a, b))
+        elif kind == "u":
+            v = pop()
+            push(-v if step[1] else +v)  # type: ignore[operator]
+        else:
+            n = step[2]
+            args = stack[len(stack) - n:] if n else []
+            del stack[len(stack) - n:]
+            push(funcs[step[1]](*args))
+    return stack[0]
 
 
 def _eval(node: ast.AST, env: Mapping[str, object], funcs: Mapping[str, Callable]) -> object:
-    if isinstance(node, ast.BinOp):
-        a = _eval(node.left, env, funcs)
-        b = _eval(node.right, env, funcs)
-        op = type(node.op)
-        if op is ast.Add:
-            return a + b  # type: ignore[operator]
-        if op is ast.Sub:
-            return a - b  # type: ignore[operator]
-        if op is ast.Mult:
-            return a * b  # type: ignore[operator]
-        if op is ast.Div:
-            return a / b  # type: ignore[operator]
-        return a ** b  # type: ignore[operator]
-    if isinstance(node, ast.UnaryOp):
-        v = _eval(node.operand, env, funcs)
-        return -v if isinstance(node.op, ast.USub) else +v  # type: ignore[operator]
-    if isinstance(node, ast.Constant):
-        return float(node.value)
-    if isinstance(node, ast.Name):
-        if node.id in env:
-            return env[node.id]
-        return CONSTANTS[node.id]
-    assert isinstance(node, ast.Call) and isinstance(node.func, ast.Name)
-    return funcs[node.func.id](*(_eval(a, env, funcs) for a in node.args))
+    """Evaluate one checked sub-tree (used by the dimensional check for constant exponents); no recursion."""
+    return _run(_compile(node), env, funcs)
 
 
 def parse_expression(text: str, allowed_symbols: Sequence[str] | None = None, where: str = "") -> Expression:

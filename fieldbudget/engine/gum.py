@@ -14,10 +14,23 @@ For y = f(x_1, ..., x_N):
   variables;
 - contributions u_i(y) = |c_i| u(x_i) and their share (c_i u(x_i))^2 / u_c^2;
 - effective degrees of freedom by Welch-Satterthwaite,
-  nu_eff = u_c^4 / sum_i u_i(y)^4 / nu_i (G.2b, eq. G.2b).  GUM G.4 assumes
-  independent inputs; when inputs are correlated fieldbudget keeps the same
-  formula with the full u_c^4 (correlation terms included) in the numerator
-  and says so in the result's warnings;
+  nu_eff = u_c^4 / sum_i u_i(y)^4 / nu_i (G.2b, eq. G.2b), which assumes
+  independent inputs.  With correlated inputs the components are grouped into
+  sets that are correlated among themselves and independent of the others
+  (the connected sets of the correlation matrix); each set g contributes the
+  variance u_g^2 = sum_{i,j in g} c_i c_j u(x_i, x_j) with one number of
+  degrees of freedom nu_g, and nu_eff = u_c^4 / sum_g u_g^4 / nu_g, the
+  generalisation of Welch-Satterthwaite to correlated components (Willink,
+  Metrologia 44 (2007) 340).  For one set of simultaneous readings (a sample
+  covariance matrix with n - 1 degrees of freedom) it is exact: c^T S c is
+  then a scaled chi-square with n - 1 degrees of freedom.  It reduces to G.2b
+  when every set has one member.  A set whose members carry different nu_i
+  is given the smallest of them (the formula needs one value per set), and
+  the result says so;
+- an output whose inputs are all readings of one simultaneous group is, by
+  default, evaluated as JCGM 100:2008 H.2 does in its second approach: the
+  output is computed for each of the n sets of readings and evaluated by
+  Type A (mean, s/sqrt(n), n - 1 degrees of freedom);
 - k from the t-distribution at p and nu_eff (G.3, G.4), or a fixed k by the
   lab's policy; U = k u_c (6.2.1).
 
@@ -37,7 +50,11 @@ from .budget import Budget
 from .coverage import coverage_factor
 from .results import BudgetResult, Contribution, VectorResult
 
-__all__ = ["evaluate", "sensitivities", "rebase"]
+__all__ = ["evaluate", "sensitivities", "rebase", "correlated_sets", "welch_satterthwaite_correlated",
+           "DOF_METHODS"]
+
+#: How a result's degrees of freedom were found (``BudgetResult.dof_method``).
+DOF_METHODS = ("welch_satterthwaite", "welch_satterthwaite_correlated", "type_a_per_set")
 
 
 def _estimates(budget: Budget) -> dict[str, float]:
@@ -100,19 +117,101 @@ def _welch_satterthwaite(uc: float, ui: np.ndarray, nu: np.ndarray) -> float:
     return math.inf if den == 0 else uc ** 4 / den
 
 
+def correlated_sets(R: np.ndarray) -> list[tuple[int, ...]]:
+    """The connected sets of inputs under the correlation matrix ``R`` (singletons included), in input order."""
+    n = R.shape[0]
+    linked = np.abs(R - np.diag(np.diag(R))) > 0
+    seen: set[int] = set()
+    sets = []
+    for start in range(n):
+        if start in seen:
+            continue
+        comp, todo = {start}, [start]
+        while todo:
+            i = todo.pop()
+            for j in np.flatnonzero(linked[i]):
+                if int(j) not in comp:
+                    comp.add(int(j))
+                    todo.append(int(j))
+        seen |= comp
+        sets.append(tuple(sorted(comp)))
+    return sets
+
+
+def welch_satterthwaite_correlated(uc: float, c: np.ndarray, V: np.ndarray, nu: np.ndarray,
+                                   sets: list[tuple[int, ...]]) -> tuple[float, tuple[tuple[int, ...], ...]]:
+    """nu_eff = u_c^4 / sum_g u_g^4 / nu_g over correlated sets g (Willink, Metrologia 44 (2007) 340).
+
+    u_g^2 = c_g V_g c_g^T is the set's share of the combined variance; nu_g
+    the set's degrees of freedom (the smallest nu_i of its members when they
+    differ; those sets are returned as index tuples).  With singleton sets this is G.2b.
+    """
+    if uc == 0:
+        return math.inf, ()
+    den = 0.0
+    notes = []
+    for g in sets:
+        idx = list(g)
+        ug2 = float(c[idx] @ V[np.ix_(idx, idx)] @ c[idx])
+        if ug2 <= 0:
+            continue
+        nus = nu[idx]
+        finite = nus[np.isfinite(nus)]
+        if finite.size == 0:
+            continue
+        nu_g = float(finite.min())
+        if len(g) > 1 and (finite.size != nus.size or np.ptp(finite) > 0):
+            notes.append(tuple(idx))
+        den += ug2 * ug2 / nu_g
+    return (math.inf if den == 0 else uc ** 4 / den), tuple(notes)
+
+
+def _per_set_outputs(budget: Budget) -> tuple[np.ndarray, tuple[str, ...]] | None:
+    """Y[j, k]: output j computed from the k-th set of simultaneous readings (JCGM 100:2008 H.2, 2nd approach).
+
+    Returns ``(Y, group)`` when every input with a non-zero uncertainty used by
+    any output belongs to one simultaneous group, else ``None``.
+    """
+    if budget.readings_evaluation != "per_set" or not budget.simultaneous or budget.correlations:
+        return None
+    model = budget.model
+    used = set(model.symbols)
+    uncertain = {q.symbol for q in budget.inputs if q.symbol in used and q.standard_uncertainty > 0}
+    for group in budget.simultaneous:
+        if uncertain and uncertain <= set(group):
+            x = _estimates(budget)
+            readings = {s: budget.input(s).distribution.readings for s in group}
+            n = len(next(iter(readings.values())))
+            Y = np.empty((len(model.outputs), n))
+            for k in range(n):
+                values = dict(x)
+                for s in group:
+                    values[s] = readings[s][k]
+                Y[:, k] = model.evaluate_float(values)
+            return Y, tuple(group)
+    return None
+
+
 def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | VectorResult:
     """Evaluate ``budget`` by the GUM law of propagation.
 
     Returns a :class:`BudgetResult` for a one-output model, a
     :class:`VectorResult` (results plus covariance) for several outputs.
     ``second_order=True`` adds u_c with the second-order terms of
-    JCGM 100:2008 5.1.2 (uncorrelated inputs only) as ``u_second_order``;
-    a budget with ``second_order=True`` reports that u_c as its combined
-    standard uncertainty, with the second-order part as
-    ``higher_order_variance``.
+    JCGM 100:2008 5.1.2 (uncorrelated inputs only) as ``u_second_order``, for
+    comparison: the statement still uses the first-order u_c.  A budget with
+    ``second_order=True`` reports that u_c as its combined standard
+    uncertainty, with the second-order part as ``higher_order_variance``.
+
+    Units are checked first (:mod:`fieldbudget.engine.dimensions`) unless the
+    budget says ``units="unchecked"``; inputs in a scaled unit of a dimension
+    used elsewhere are converted, and the result's warnings say so.
     """
     if not isinstance(budget, Budget):
         raise InputError("budget", budget, "a Budget")
+    from .dimensions import prepare
+
+    budget, unit_notes = prepare(budget)
     C, y, method = sensitivities(budget)
     u = np.array([q.standard_uncertainty for q in budget.inputs])
     nu = np.array([q.dof for q in budget.inputs])
@@ -125,10 +224,19 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
             f"model {budget.model.text()!r}: the combined variance is not a finite number (a sensitivity "
             "coefficient or an uncertainty is too large for floating point)")
     results = []
-    common: list[str] = []
-    if budget.has_correlations:
-        common.append("inputs are correlated: the effective degrees of freedom use Welch-Satterthwaite with the "
-                      "full combined variance (JCGM 100:2008 G.4 assumes independent inputs)")
+    common: list[str] = list(unit_notes)
+    sets = correlated_sets(R) if budget.has_correlations else [(i,) for i in range(len(u))]
+    per_set = _per_set_outputs(budget)
+    n_sets = None
+    y_per_set = None
+    if per_set is not None:
+        Y, group = per_set
+        n_sets = Y.shape[1]
+        y_per_set = Y.mean(axis=1)
+        cov = np.atleast_2d(np.cov(Y)) / n_sets
+        common.append(f"every input of the model is a reading of the simultaneous group {', '.join(group)}: the "
+                      f"output was computed for each of the {n_sets} sets of readings and evaluated by Type A "
+                      "(JCGM 100:2008 H.2, second approach)")
     u2o: float | None = None
     if second_order or budget.second_order:
         from .second_order import combined_uncertainty as _second_order
@@ -149,12 +257,27 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
             uc2 = u2o ** 2
         uc = math.sqrt(max(uc2, 0.0))
         shares = ui ** 2 / uc2 if uc2 > 0 else np.zeros_like(ui)
-        nu_eff = _welch_satterthwaite(uc, ui, nu)
+        warn = list(common)
+        if per_set is not None:
+            nu_eff = float(n_sets - 1) if uc > 0 else math.inf
+            dof_method = "type_a_per_set"
+        elif budget.has_correlations:
+            nu_eff, mixed = welch_satterthwaite_correlated(uc, c, V, nu, sets)
+            dof_method = "welch_satterthwaite_correlated"
+            for m in mixed:
+                names = ", ".join(budget.inputs[i].symbol for i in m)
+                warn.append(f"the correlated inputs {names} carry different degrees of freedom; the generalised "
+                            "Welch-Satterthwaite formula gives the set the smallest of them")
+        else:
+            nu_eff = _welch_satterthwaite(uc, ui, nu)
+            dof_method = "welch_satterthwaite"
+        if nu_eff < 1:
+            warn.append(f"the effective degrees of freedom ({nu_eff:.3g}) are below 1; k is taken at 1 degree of "
+                        "freedom, the least the t-distribution's coverage factor is defined for here")
         if budget.coverage_policy == "fixed":
             k = float(budget.coverage_factor)
         else:
-            k = coverage_factor(budget.coverage_probability, nu_eff, budget.dof_rounding)
-        warn = list(common)
+            k = coverage_factor(budget.coverage_probability, max(nu_eff, 1.0), budget.dof_rounding)
         if uc == 0:
             warn.append("the combined standard uncertainty is zero at first order: the law of propagation sees no "
                         "contribution here; check with Monte Carlo or second-order terms (JCGM 100:2008 5.1.2)")
@@ -179,12 +302,13 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
             )
             for i, q in enumerate(budget.inputs)
         )
+        estimate = float(y_per_set[j]) if y_per_set is not None else float(y[j])
         results.append(BudgetResult(
-            budget=budget, measurand=ms, estimate=float(y[j]), standard_uncertainty=uc, effective_dof=nu_eff,
+            budget=budget, measurand=ms, estimate=estimate, standard_uncertainty=uc, effective_dof=nu_eff,
             coverage_factor=k, coverage_probability=budget.coverage_probability, expanded_uncertainty=k * uc,
             contributions=contribs, correlation_variance=corr_var, higher_order_variance=higher,
             sensitivity_method=method,
-            warnings=tuple(warn), u_second_order=u2o,
+            warnings=tuple(warn), u_second_order=u2o, dof_method=dof_method, readings_sets=n_sets,
         ))
     if len(results) == 1:
         return results[0]

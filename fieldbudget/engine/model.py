@@ -117,7 +117,12 @@ class Model:
                 out = tuple(res) if isinstance(res, (tuple, list)) else (res,)
         except ZeroDivisionError:
             raise ModelEvaluationError(f"model {self.text()!r}: division by zero at the given estimates") from None
-        except (ValueError, FloatingPointError, OverflowError) as err:
+        except OverflowError:
+            raise ModelEvaluationError(f"model {self.text()!r}: a number overflows (beyond about 1.8e308) at the "
+                                       "given estimates") from None
+        except ModelEvaluationError as err:
+            raise ModelEvaluationError(f"model {self.text()!r}: {err}") from None
+        except (ValueError, FloatingPointError) as err:
             raise ModelEvaluationError(
                 f"model {self.text()!r} cannot be evaluated at the given estimates ({err})"
             ) from None

@@ -35,6 +35,7 @@ the sampling and the arithmetic.
 from __future__ import annotations
 
 import math
+import os
 from collections.abc import Callable
 from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
 from dataclasses import dataclass, field
@@ -173,6 +174,16 @@ class MonteCarloResult:
     unit: str = ""
     stabilised: bool | None = None
     warnings: tuple[str, ...] = ()
+    interval_se: tuple[float, float] | None = None
+    shortest_interval_se: tuple[float, float] | None = None
+    stages: int = 0
+    skewness: float = 0.0
+    excess_kurtosis: float = 0.0
+
+    @property
+    def interval_tolerance(self) -> tuple[float, float] | None:
+        """2 s of each end of the symmetric interval: its numerical tolerance at about 95 % (JCGM 101 7.9.4)."""
+        return None if self.interval_se is None else (2 * self.interval_se[0], 2 * self.interval_se[1])
 
     @property
     def coverage_interval(self) -> tuple[float, float]:
@@ -197,6 +208,11 @@ class MonteCarloResult:
             "evaluation": self.evaluation,
             "adaptive": self.adaptive,
             "stabilised": self.stabilised,
+            "stages": self.stages,
+            "interval_se": None if self.interval_se is None else list(self.interval_se),
+            "shortest_interval_se": None if self.shortest_interval_se is None else list(self.shortest_interval_se),
+            "skewness": self.skewness,
+            "excess_kurtosis": self.excess_kurtosis,
             "histogram": {"counts": list(counts), "edges": list(edges)},
             "warnings": list(self.warnings),
         }
@@ -404,7 +420,8 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         coverage_probability: float | None = None, significant_digits: int = 2,
         chunk_size: int | None = None, progress: Callable[[int, int], object] | None = None,
         should_stop: Callable[[], bool] | None = None, workers: int = 1,
-        max_trials: int | None = None) -> MonteCarloResult | MonteCarloVectorResult:
+        max_trials: int | None = None,
+        stop_when: Callable[[dict], bool] | None = None) -> MonteCarloResult | MonteCarloVectorResult:
     """Propagate the budget's input distributions through its model (JCGM 101:2008).
 
     Parameters
@@ -439,6 +456,19 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         its loops); never changes the numbers.
     max_trials : int, optional
         Upper limit of the adaptive procedure (default ``ADAPTIVE_MAX_TRIALS``).
+    stop_when : callable, optional
+        Adaptive only: a further condition for stopping, called after each
+        stage once the results are stabilised with ``{"trials": M, "outputs":
+        [{"estimate", "u", "interval", "interval_se"}, ...]}`` (the stage
+        averages and the standard deviations of those averages, JCGM 101
+        7.9.4 d); the run goes on while it returns False (used by
+        :func:`fieldbudget.engine.validation.validate_adaptive` to run until
+        the validation is decided).
+
+    Every result carries the standard errors of its interval ends
+    (``interval_se``), from the spread of the ends over stages of
+    max(J, 10^4) trials (the stages of JCGM 101 7.9.4; at least two stages
+    are needed), and the skewness and excess kurtosis of the output values.
     """
     p = _coverage(budget, coverage_probability)
     workers = _positive_int("workers", workers)
@@ -453,6 +483,11 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
     elif isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
         raise InputError("seed", seed, "an integer >= 0", _WHERE)
     seed = int(seed)
+    from .budget import Budget
+    from .dimensions import prepare
+
+    if isinstance(budget, Budget):
+        budget, _ = prepare(budget)   # the same unit conversions as the GUM evaluation
     plan = _plan(budget)
 
     if adaptive:
@@ -460,14 +495,33 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         cap = _positive_int("max_trials", ADAPTIVE_MAX_TRIALS if max_trials is None else max_trials)
         cap = max(stage * 2, cap // stage * stage)
         values, hows, stabilised = _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks,
-                                                 workers, progress, should_stop)
+                                                 workers, progress, should_stop, stop_when)
     else:
         m = _positive_int("trials", trials)
+        limit = max_trials_in_memory(len(plan.outputs))
+        if m > limit:
+            raise InputError("trials", m, f"at most {limit} on this machine (every trial's output is kept, "
+                             f"{8 * len(plan.outputs)} bytes each, to find the coverage intervals; half the memory "
+                             "is the bound)", _WHERE)
         values = np.empty((len(plan.outputs), m), dtype=np.float64)
         hows = _run_blocks(plan, seed, m, 0, -(-m // BLOCK_SIZE), chunk_blocks, workers, values,
                            progress, should_stop, m, 0)
         stabilised = None
     return _summarise(plan, values, p, seed, hows, adaptive, stabilised)
+
+
+def max_trials_in_memory(n_outputs: int = 1) -> int:
+    """Most trials one run may keep: half the machine's memory over 3 x 8 bytes per output and trial.
+
+    The outputs of every trial are kept (the coverage intervals need them all,
+    JCGM 101 7.7) and sorting needs about as much again; the inputs go in
+    fixed blocks and do not grow with M.
+    """
+    try:
+        total = os.sysconf("SC_PHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
+    except (ValueError, OSError, AttributeError):  # pragma: no cover - not POSIX
+        total = 8 * 1024**3
+    return max(BLOCK_SIZE, int(total // 2 // (24 * max(1, n_outputs))))
 
 
 def _positive_int(name: str, value: object) -> int:
@@ -554,7 +608,8 @@ def _sym_ends(y: np.ndarray, p: float) -> tuple[float, float]:
     return float(part[r - 1]), float(part[r + q - 1])
 
 
-def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, workers, progress, should_stop):
+def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, workers, progress, should_stop,
+                  stop_when=None):
     """JCGM 101:2008 7.9.4: stages of ``stage`` trials until 2 s <= delta for y, u, y_low, y_high."""
     n_out = len(plan.outputs)
     values = np.empty((n_out, cap), dtype=np.float64)   # pages are touched only as trials are written
@@ -579,7 +634,8 @@ def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, w
             for o in range(n_out):
                 y = values[o, lo_:hi_]
                 stats[o].append((float(np.mean(y)), float(np.std(y, ddof=1)), *_sym_ends(y, p)))
-            if h >= 2 and _stable(stats, h, stage, significant_digits):
+            if h >= 2 and _stable(stats, h, stage, significant_digits) and (
+                    stop_when is None or stop_when(_stage_summary(stats, h, stage))):
                 stabilised = True
                 break
         done = h * stage
@@ -590,6 +646,59 @@ def _run_adaptive(plan, seed, p, significant_digits, stage, cap, chunk_blocks, w
         if progress is not None:
             progress(done, planned)
     return values[:, :done], hows, stabilised
+
+
+def _stage_summary(stats, h: int, stage: int) -> dict:
+    outs = []
+    for stats_o in stats:
+        a = np.asarray(stats_o[:h], dtype=np.float64)
+        spread = _stage_spread(stats_o, h)
+        outs.append({"estimate": float(a[:, 0].mean()), "u": _pooled_u(stats_o, h, stage),
+                     "interval": (float(a[:, 2].mean()), float(a[:, 3].mean())),
+                     "interval_se": (float(spread[2]), float(spread[3]))})
+    return {"trials": h * stage, "outputs": outs}
+
+
+def _interval_ends(y: np.ndarray, p: float) -> tuple[float, float, float, float]:
+    """Ends of the symmetric and the shortest 100p % interval of ``y`` (JCGM 101 7.7), reordering ``y``."""
+    m = y.size
+    q = _q_of(p, m)
+    tail = m - q
+    r = (m - q + 1) // 2
+    if tail <= q:
+        y.partition((tail - 1, q))
+        y[:tail].sort()
+        y[q:].sort()
+    else:
+        y.sort()
+    rs = int(np.argmin(y[q:] - y[:tail]))
+    return float(y[r - 1]), float(y[r + q - 1]), float(y[rs]), float(y[rs + q])
+
+
+def _stage_errors(y: np.ndarray, p: float, stage: int):
+    """(h, se of the symmetric ends, se of the shortest ends) over h stages of ``stage`` values (JCGM 101 7.9.4 d)."""
+    h = y.size // stage
+    if h < 2:
+        return h, None, None
+    ends = np.empty((h, 4))
+    buf = np.empty(stage)
+    for i in range(h):
+        buf[:] = y[i * stage:(i + 1) * stage]
+        ends[i] = _interval_ends(buf, p)
+    se = np.std(ends, axis=0, ddof=1) / math.sqrt(h)
+    return h, (float(se[0]), float(se[1])), (float(se[2]), float(se[3]))
+
+
+def _shape(y: np.ndarray) -> tuple[float, float]:
+    """Sample skewness and excess kurtosis of ``y`` (moment estimators; 0, 0 for a normal)."""
+    m = float(np.mean(y))
+    d = y - m
+    m2 = float(np.mean(d * d))
+    if m2 <= 0:
+        return 0.0, 0.0
+    m3 = float(np.mean(d * d * d))
+    m4 = float(np.mean((d * d) ** 2))
+    return m3 / m2 ** 1.5, m4 / (m2 * m2) - 3.0
 
 
 def _stage_spread(stats_o, h) -> np.ndarray:
@@ -648,16 +757,20 @@ def _summarise(plan: _Plan, values: np.ndarray, p: float, seed: int, hows: list[
         c = np.corrcoef(values)
         correlation = tuple(tuple(float(v) for v in r) for r in c)
     summary = [(float(np.mean(values[o])), float(np.std(values[o], ddof=1))) for o in range(len(plan.outputs))]
+    stage = _adaptive_stage(p)
     results = []
     for o, name in enumerate(plan.outputs):
         est, u = summary[o]
+        skew, kurt = _shape(values[o])
+        h, se_sym, se_short = _stage_errors(values[o], p, stage)   # before the in-place sort below
         sym, short, hist = coverage_intervals(values[o], p, in_place=True)
         results.append(MonteCarloResult(
             estimate=est, standard_uncertainty=u, coverage_probability=p, interval=sym,
             shortest_interval=short, trials=m, seed=seed, generator=GENERATOR,
             numpy_version=np.__version__, evaluation=how, adaptive=adaptive, histogram=hist,
             block_size=BLOCK_SIZE, output=name, unit=plan.units[o], stabilised=stabilised,
-            warnings=tuple(warnings)))
+            warnings=tuple(warnings), interval_se=se_sym, shortest_interval_se=se_short, stages=h,
+            skewness=skew, excess_kurtosis=kurt))
     if len(results) == 1:
         return results[0]
     return MonteCarloVectorResult(tuple(results), correlation)

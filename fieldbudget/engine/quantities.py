@@ -109,8 +109,10 @@ class InputQuantity:
         _check_role(self.role, where)
         object.__setattr__(self, "provenance", _check_provenance(self.role, self.provenance, where))
         try:
+            if isinstance(self.estimate, (str, bytes)):  # "2.0" is a text, not a number
+                raise TypeError
             x = float(self.estimate)
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):
             raise InputError("value", self.estimate, "a finite number", where) from None
         if isinstance(self.estimate, bool) or not math.isfinite(x):
             raise InputError("value", self.estimate, "a finite number", where)
@@ -168,20 +170,28 @@ class InputQuantity:
         return cls(symbol, value, Normal.from_expanded(expanded, k, dof, where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def rectangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Rectangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def rectangular(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Rectangular(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def triangular(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Triangular(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def triangular(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Triangular(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
-    def arcsine(cls, symbol: str, value: float, half_width: float, **kw) -> InputQuantity:
-        return cls(symbol, value, Arcsine(half_width=half_width, where=f"input {symbol!r}"), **kw)
+    def arcsine(cls, symbol: str, value: float, half_width: float, dof: float | None = None,
+                    **kw) -> InputQuantity:
+        return cls(symbol, value, Arcsine(half_width=half_width, dof=math.inf if dof is None else dof,
+                                         where=f"input {symbol!r}"), **kw)
 
     @classmethod
     def from_readings(cls, symbol: str, readings: Sequence[float], **kw) -> InputQuantity:
         """Type A: estimate = mean, u = s/sqrt(n), dof = n - 1 (JCGM 100:2008 4.2)."""
+        if isinstance(readings, (str, bytes)):  # tuple("12345") would be five readings
+            raise InputError("readings", readings, "a list of numbers", f"input {symbol!r}")
         d = TypeA(readings=tuple(readings) if readings is not None else (), where=f"input {symbol!r}")
         return cls(symbol, d.mean, d, **kw)
 
@@ -223,7 +233,10 @@ class InputQuantity:
         if "relative_uncertainty_of_u" in d:
             if dof is not None:
                 raise InputError("dof", dof, "left out when 'relative_uncertainty_of_u' is given", here)
-            dof = dof_from_reliability(d["relative_uncertainty_of_u"])
+            try:
+                dof = dof_from_reliability(d["relative_uncertainty_of_u"])
+            except InputError as err:
+                raise InputError("relative_uncertainty_of_u", err.value, err.allowed, here) from None
         dof_v = math.inf if dof is None else dof
         kind = stated[0]
         dist: Distribution

@@ -85,6 +85,8 @@ class BudgetResult:
     u_second_order: float | None = None
     monte_carlo: object | None = None
     validation: object | None = None
+    dof_method: str = "welch_satterthwaite"
+    readings_sets: int | None = None
 
     # -- derived ------------------------------------------------------------------
     @property
@@ -146,8 +148,20 @@ class BudgetResult:
             how = (f"by the coverage factor k = {self.coverage_factor:.2f} from the t-distribution with {nu_text}, "
                    f"for a coverage probability of about {ptext} %")
         second = " (second-order terms included, JCGM 100:2008 5.1.2)" if self.budget.second_order else ""
-        return (f"{head}. The number after ± is the expanded uncertainty U = k·u_c: the combined standard "
+        text = (f"{head}. The number after ± is the expanded uncertainty U = k·u_c: the combined standard "
                 f"uncertainty u_c = {u_text}{unit}{second} multiplied {how}.")
+        return text + self.dof_sentence()
+
+    def dof_sentence(self) -> str:
+        """Words saying how u_c and its degrees of freedom were obtained ('' for plain Welch-Satterthwaite)."""
+        if self.dof_method == "type_a_per_set":
+            return (f" The model was evaluated for each of the {self.readings_sets} sets of simultaneous readings, "
+                    "and u_c with its degrees of freedom is the Type A evaluation of those values "
+                    "(JCGM 100:2008 H.2, second approach).")
+        if self.dof_method == "welch_satterthwaite_correlated":
+            return (" The effective degrees of freedom come from the Welch–Satterthwaite formula generalised to "
+                    "correlated components (Willink, Metrologia 44 (2007) 340).")
+        return ""
 
     # -- forms ----------------------------------------------------------------------
     def __repr__(self) -> str:
@@ -182,12 +196,20 @@ class BudgetResult:
         if self.budget.second_order:
             lines.append(f"second-order terms in u_c^2 (JCGM 100:2008 5.1.2): {self.higher_order_variance:.4g}")
         if self.u_second_order is not None:
-            lines.append(f"u_c with second-order terms: {self.u_second_order:.4g}{unit}")
+            if self.budget.second_order:
+                lines.append(f"u_c with second-order terms: {self.u_second_order:.4g}{unit} (the statement uses it)")
+            else:
+                lines.append(f"u_c with second-order terms: {self.u_second_order:.4g}{unit}, for comparison only: the "
+                             f"statement uses the first-order u_c = {self.standard_uncertainty:.4g}{unit}; set "
+                             "\"second_order\": true in the budget to state the second-order value")
         lines += ["", self.statement()]
         if self.monte_carlo is not None:
             lines += ["", f"Monte Carlo: {self.monte_carlo!r}"]
         if self.validation is not None:
             lines.append(f"Validation: {self.validation!r}")
+            advice = getattr(self.validation, "advice", "")
+            if advice:
+                lines.append(f"  {advice}")
         for w in self.warnings:
             lines.append(f"warning: {w}")
         return "\n".join(lines)
@@ -239,6 +261,8 @@ class BudgetResult:
             "correlation_variance": self.correlation_variance,
             "higher_order_variance": self.higher_order_variance,
             "sensitivity_method": self.sensitivity_method,
+            "dof_method": self.dof_method,
+            "statement_u": "second_order" if self.budget.second_order else "first_order",
             "rounded": self.rounded().to_dict(),
             "statement": self.statement(),
             "warnings": list(self.warnings),
@@ -247,11 +271,13 @@ class BudgetResult:
             d["codata"] = self.budget.metadata["codata"]
         if self.u_second_order is not None:
             d["u_second_order"] = self.u_second_order
+        if self.readings_sets is not None:
+            d["readings_sets"] = self.readings_sets
         if self.monte_carlo is not None:
             mc = dict(self.monte_carlo.to_dict())  # type: ignore[attr-defined]
             if self.validation is not None:
                 v = self.validation.to_dict()  # type: ignore[attr-defined]
-                mc["validated"] = bool(v.get("validated", v.get("passed")))
+                mc["validated"] = v.get("validated")  # True, False, or None when Monte Carlo noise cannot decide
                 mc["validation"] = v
             d["mc"] = mc
         return d

@@ -12,14 +12,16 @@ Rules offered (``rule=``):
 - ``"up"``: U always rounded up (GUM 7.2.6 allows it for a final result).
 
 Decimal arithmetic on the shortest repr of each float avoids binary
-artefacts (2.675 stays 2.675).
+artefacts (2.675 stays 2.675).  The decimal precision is set for each call
+from the digits the result needs, so any finite u/|y| rounds (1 +- 1e-30
+needs 32 digits; the default context holds 28).
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from decimal import ROUND_CEILING, ROUND_HALF_UP, Decimal
+from decimal import ROUND_CEILING, ROUND_HALF_UP, Decimal, localcontext
 
 from ..errors import InputError
 
@@ -49,6 +51,20 @@ def _quantum(decimals: int) -> Decimal:
 
 def round_result(value: float, U: float, rule: str = "gum", significant_digits: int = 2,
                  decimals: int | None = None) -> RoundedResult:
+    """Round U to ``significant_digits`` (or to ``decimals`` places) and the value to match (see below)."""
+    if not math.isfinite(value):
+        raise InputError("estimate", value, "a finite number")
+    if not math.isfinite(U) or U < 0:
+        raise InputError("expanded uncertainty", U, "a finite number >= 0")
+    top = max(Decimal(repr(float(value))).adjusted() if value else 0, Decimal(repr(float(U))).adjusted() if U else 0)
+    low = -(decimals if decimals is not None else (6 if U == 0 else 2 - Decimal(repr(float(U))).adjusted()))
+    with localcontext() as ctx:
+        ctx.prec = max(28, top - low + 4)
+        return _round_result(value, U, rule, significant_digits, decimals)
+
+
+def _round_result(value: float, U: float, rule: str, significant_digits: int,
+                  decimals: int | None) -> RoundedResult:
     """Round U to ``significant_digits`` (or to ``decimals`` places) and the value to match.
 
     Parameters

@@ -11,6 +11,7 @@ import json
 import os
 from pathlib import Path
 
+from .._io import read_json_file
 from ..engine import Budget
 from ..errors import BudgetFileError
 from .atomic import atomic_write_text
@@ -19,24 +20,8 @@ __all__ = ["load_budget", "save_budget", "read_json"]
 
 
 def read_json(path: str | os.PathLike) -> object:
-    """Parse a JSON file; any failure is a :class:`BudgetFileError` naming the file."""
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise BudgetFileError(str(p), "", "no such file") from None
-    except (OSError, UnicodeDecodeError) as err:
-        raise BudgetFileError(str(p), "", f"cannot be read ({err})") from None
-    try:
-        return json.loads(text, parse_constant=_refuse_constant)
-    except json.JSONDecodeError as err:
-        raise BudgetFileError(str(p), "", f"is not valid JSON (line {err.lineno}, column {err.colno}: {err.msg})") from None
-    except ValueError as err:
-        raise BudgetFileError(str(p), "", str(err)) from None
-
-
-def _refuse_constant(name: str) -> float:
-    raise ValueError(f"is not valid JSON ({name} is not a number in JSON; write a finite number)")
+    """Parse a JSON file strictly (:func:`fieldbudget._io.read_json_file`); failures name the file and place."""
+    return read_json_file(path)
 
 
 def load_budget(path: str | os.PathLike) -> Budget:

@@ -46,7 +46,9 @@ from typing import Any
 
 from .. import __version__
 from .._display import fmt, html_table
+from .._io import parse_json
 from ..errors import (
+    BudgetFileError,
     DigestMismatch,
     FieldbudgetError,
     InputError,
@@ -73,11 +75,12 @@ __all__ = [
     "record_from_dict",
     "save_record",
     "serialise",
+    "sign_record",
     "software_versions",
     "verify_record",
 ]
 
-SCHEMA_VERSION = "1.0"
+SCHEMA_VERSION = "1.1"
 SCHEMA_MAJOR = 1
 RECORD_KIND = "fieldbudget record"
 
@@ -89,7 +92,10 @@ MC_TOLERANCE_FACTOR = 4.0
 _TOP_KEYS = (
     "schema_version", "kind", "revision", "previous_digest", "created_utc", "operator", "remarks",
     "procedure", "codata_edition", "software", "budget", "input_order", "settings", "results", "changes", "digest",
+    "signatures",
 )
+# Keys outside the content digest: the digest itself and the signatures over it.
+_NOT_CONTENT = ("digest", "signatures")
 
 
 # ----------------------------------------------------------------------------
@@ -147,8 +153,8 @@ def canonical_bytes(document: Mapping) -> bytes:
 
 
 def compute_digest(document: Mapping) -> str:
-    """SHA-256 (hex) over the canonical serialisation of ``document`` without its ``digest`` key."""
-    content = {k: v for k, v in _thaw(document).items() if k != "digest"}
+    """SHA-256 (hex) over the canonical serialisation of ``document`` without ``digest`` and ``signatures``."""
+    content = {k: v for k, v in _thaw(document).items() if k not in _NOT_CONTENT}
     return hashlib.sha256(canonical_bytes(content)).hexdigest()
 
 
@@ -216,10 +222,11 @@ class Record:
     schema_version: str = SCHEMA_VERSION
     extra: Mapping = field(default_factory=lambda: MappingProxyType({}), repr=False)
     digest: str = ""
+    signatures: tuple = ()
 
     def __post_init__(self) -> None:
         for name in ("budget", "gum", "input_order", "monte_carlo", "validation", "monte_carlo_settings", "software",
-                     "procedure", "changes", "extra"):
+                     "procedure", "changes", "extra", "signatures"):
             value = getattr(self, name)
             if value is not None:
                 object.__setattr__(self, name, _freeze(_jsonable(value, f"#/{name}")))
@@ -252,14 +259,21 @@ class Record:
             "changes": _thaw(self.changes),
         }
         for k, v in _thaw(self.extra).items():
-            doc.setdefault(k, v)
+            if k not in _NOT_CONTENT:
+                doc.setdefault(k, v)
         return doc
 
     def to_dict(self) -> dict:
-        """The whole record document (plain JSON types), digest included."""
+        """The whole record document (plain JSON types), digest and signatures (when any) included."""
         doc = self.content()
         doc["digest"] = self.digest
+        if self.signatures:
+            doc["signatures"] = _thaw(self.signatures)
         return doc
+
+    @property
+    def signed(self) -> bool:
+        return bool(self.signatures)
 
     def computed_digest(self) -> str:
         """SHA-256 of the current content."""
@@ -297,6 +311,8 @@ class Record:
             ("Monte Carlo", f"{self.monte_carlo['trials']} trials, seed {self.monte_carlo['seed']}"
              if self.monte_carlo else "not run"),
             ("SHA-256", self.digest),
+            ("signatures", "; ".join(f"{s.get('name')} ({s.get('role')}), {s.get('time')}" for s in self.signatures)
+             or "none (protected against accidental damage only)"),
         ]
         return html_table(("", ""), rows, caption="fieldbudget record", css_class="fb-table fb-record")
 
@@ -342,6 +358,7 @@ def record_from_dict(document: Mapping, *, where: str = "record") -> Record:
         schema_version=d.get("schema_version", SCHEMA_VERSION),
         extra=extra,
         digest=d.get("digest", ""),
+        signatures=tuple(d.get("signatures") or ()),
     )
 
 
@@ -504,7 +521,8 @@ def _validate(gum, mc):
 
 def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None, operator: str = "",
                 remarks: str = "", procedure: Any = None, previous: Record | None = None,
-                created_utc: str | None = None) -> Record:
+                created_utc: str | None = None, reason: str = "", sign: Any = None,
+                passphrase: str | None = None) -> Record:
     """Evaluate ``budget`` and return its :class:`Record` (not yet saved).
 
     Parameters
@@ -523,17 +541,36 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         The lab procedure followed, if any.
     previous : Record, optional
         The previous revision of the same budget: the new record gets its
-        revision number + 1, its digest, and the list of changes.
+        revision number + 1, its digest, and the list of changes.  It must be
+        of the same measurand (symbol and unit), and ``reason`` is required.
     created_utc : str, optional
         Time stamp (ISO 8601, UTC, ``Z``); now by default.
+    reason : str
+        Why this revision was made (with ``previous``); it goes into the change log.
+    sign : SigningKey or path of a key file, optional
+        Sign the record (see :mod:`fieldbudget.files.signing`); ``passphrase``
+        unlocks a protected key file.
     """
     from ..engine import evaluate
 
-    for name, value in (("operator", operator), ("remarks", remarks)):
+    hooked = _other_kind(budget, monte_carlo=monte_carlo, seed=seed, operator=operator, remarks=remarks,
+                         procedure=procedure, created_utc=created_utc, previous=previous)
+    if hooked is not None:
+        if sign is not None:
+            if not isinstance(hooked, Record):
+                raise InputError("sign", str(sign), "left out for a calibration record (its signing is not "
+                                 "supported yet)", "make_record")
+            hooked = sign_record(hooked, sign, passphrase=passphrase)
+        return hooked
+    for name, value in (("operator", operator), ("remarks", remarks), ("reason", reason)):
         if not isinstance(value, str):
             raise InputError(name, value, "text", "make_record")
     if previous is not None and not isinstance(previous, Record):
         raise InputError("previous", type(previous).__name__, "a Record (the previous revision) or None", "make_record")
+    if previous is not None and not reason.strip():
+        raise InputError("reason", reason, "a text saying why this revision was made (it goes into the change log)",
+                         "make_record with previous")
+    key = _signing_key(sign, passphrase) if sign is not None else None
     b = _as_budget(budget)
     content = _jsonable(b.to_dict(), "#/budget")
     gum = evaluate(b)
@@ -569,8 +606,14 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
 
     revision, prev_digest, changes = 1, None, []
     if previous is not None:
+        old_m, new_m = _measurand_of(previous.gum, previous.budget), _measurand_of(gum_d, content)
+        if old_m != new_m:
+            raise InputError("previous", f"measurand {_measurand_text(old_m)}",
+                             f"a record of the same measurand as the new one ({_measurand_text(new_m)})",
+                             "make_record")
         revision, prev_digest = previous.revision + 1, previous.digest
         changes = budget_changes(previous.budget, content)
+        changes.append({"change": "revision reason", "what": f"revision {revision}", "detail": reason.strip()})
 
     rec = Record(
         budget=content, gum=gum_d, input_order=tuple(q.symbol for q in b.inputs), monte_carlo=mc_d, validation=val_d,
@@ -579,13 +622,76 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
         operator=operator, remarks=remarks, created_utc=created_utc or _utc_now(), revision=revision,
         previous_digest=prev_digest, changes=tuple(changes),
     )
-    return _with_digest(rec)
+    rec = _with_digest(rec)
+    return sign_record(rec, key) if key is not None else rec
+
+
+def _other_kind(budget: Any, **kw: Any) -> Any:
+    """Calibration files and several-output budgets are recorded by :mod:`.calibration_record`."""
+    from . import calibration_record as cr
+
+    if cr.is_calibration_input(budget):
+        return cr.make_calibration_record(budget, **kw)
+    from ..engine import Budget
+
+    b = budget
+    if isinstance(budget, Mapping) and isinstance(budget.get("model"), Mapping):
+        b = _as_budget(budget)
+    if isinstance(b, Budget) and len(b.model.outputs) > 1:
+        return cr.make_several_output_record(b, **kw)
+    return None
 
 
 def _with_digest(rec: Record) -> Record:
     from dataclasses import replace
 
     return replace(rec, digest=rec.computed_digest())
+
+
+def _measurand_of(gum: Mapping, budget: Mapping) -> tuple[str, str]:
+    m = gum.get("measurand") or budget.get("measurand") or {}
+    if not isinstance(m, Mapping):
+        return (str(m), "")
+    return (str(m.get("symbol", "")), str(m.get("unit", "")))
+
+
+def _measurand_text(m: tuple[str, str]) -> str:
+    return f"{m[0]} in {m[1]}" if m[1] else m[0]
+
+
+def _signing_key(key: Any, passphrase: str | None = None):
+    from .signing import SigningKey, load_signing_key
+
+    if isinstance(key, SigningKey):
+        return key
+    if isinstance(key, (str, Path)):
+        return load_signing_key(key, passphrase)
+    raise InputError("sign", type(key).__name__, "a SigningKey or the path of a key file", "make_record")
+
+
+def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time: str | None = None) -> Record:
+    """The same record with one more signature (content and digest unchanged).
+
+    ``key`` is a :class:`~fieldbudget.files.signing.SigningKey` or a key file
+    path.  A record whose digest does not match its content is refused, and
+    the same key cannot sign twice in the same role.
+    """
+    from dataclasses import replace
+
+    from .signing import sign_digest
+
+    if not isinstance(record, Record):
+        raise InputError("record", type(record).__name__, "a Record", "sign_record")
+    k = _signing_key(key, passphrase)
+    if not record.digest_ok():
+        raise DigestMismatch("not signed: the record's digest does not match its content (it was changed after it "
+                             "was written)")
+    for s in record.signatures:
+        if s.get("fingerprint") == k.fingerprint and s.get("role") == k.role:
+            raise InputError("key", f"{k.name} ({k.role})", "a key that has not signed this record in this role yet",
+                             "sign_record")
+    entry = sign_digest(k, record.digest, time)
+    return replace(record, signatures=(*record.signatures, _freeze(entry)))
 
 
 # ----------------------------------------------------------------------------
@@ -598,6 +704,10 @@ def save_record(record: Record, path: str | Path) -> Path:
     Refuses a record whose digest does not match its content, so a changed
     record is never archived under its old digest.
     """
+    from .calibration_record import CalibrationRecord, save_calibration_record
+
+    if isinstance(record, CalibrationRecord):
+        return save_calibration_record(record, path)
     if not isinstance(record, Record):
         raise InputError("record", type(record).__name__, "a Record", "save_record")
     if not record.digest_ok():
@@ -610,37 +720,15 @@ def _pointer(parts) -> str:
     return "#/" + "/".join(str(p) for p in parts) if parts else "#"
 
 
-def _no_duplicates(pairs):
-    d = {}
-    for k, v in pairs:
-        if k in d:
-            raise ValueError(f"duplicate key {k!r}")
-        d[k] = v
-    return d
-
-
-def _refuse_constant(name: str):
-    raise ValueError(f"{name} is not allowed in a record")
-
-
 def parse_record_text(data: bytes, where: str) -> dict:
     """Parse and check record bytes; return the document.  Raises RecordError subclasses."""
     if not data.strip():
         raise RecordError(f"{where}: the file is empty: not a record (damaged, or the save never finished?)")
     try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as err:
-        raise RecordError(f"{where}: damaged record: byte {err.start} is not UTF-8 text") from None
-    try:
-        doc = json.loads(text, object_pairs_hook=_no_duplicates, parse_constant=_refuse_constant)
-    except json.JSONDecodeError as err:
-        if err.pos >= len(text.rstrip()):
-            raise RecordError(f"{where}: damaged record: the file ends before the JSON document does "
-                              f"(truncated at line {err.lineno}, column {err.colno})") from None
-        raise RecordError(f"{where}: damaged record: not valid JSON at line {err.lineno}, column {err.colno} "
-                          f"({err.msg})") from None
-    except ValueError as err:
-        raise RecordError(f"{where}: damaged record: {err}") from None
+        doc = parse_json(data, where, what="record")
+    except BudgetFileError as err:
+        at = f", at {err.pointer}" if err.pointer else ""
+        raise RecordError(f"{where}: damaged record{at}: {err.reason}") from None
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")
@@ -684,6 +772,10 @@ def load_record(path: str | Path, *, check_digest: bool = True) -> Record:
         which :func:`verify_record` uses to report the mismatch as a failed check).
     """
     where = str(path)
+    from . import calibration_record as cr
+
+    if cr.record_kind(path) in cr.KINDS:
+        return cr.load_calibration_record(path, check_digest=check_digest)
     try:
         data = Path(path).read_bytes()
     except FileNotFoundError:
@@ -722,15 +814,26 @@ class Check:
 
 @dataclass(frozen=True)
 class VerifyResult:
-    """The outcome of :func:`verify_record`: one :class:`Check` per thing checked."""
+    """The outcome of :func:`verify_record`: one :class:`Check` per thing checked.
+
+    ``signatures`` holds one :class:`~fieldbudget.files.signing.SignatureCheck`
+    per signature (name, role, fingerprint, time, valid); ``trusted_keys`` says
+    whether a list of trusted keys was given.
+    """
 
     checks: tuple[Check, ...]
     where: str = ""
+    signatures: tuple = ()
+    trusted_keys: bool = False
 
     @property
     def passed(self) -> bool:
         """True when no check failed (informational checks do not count)."""
         return all(c.status != "fail" for c in self.checks)
+
+    @property
+    def signed(self) -> bool:
+        return bool(self.signatures)
 
     @property
     def failures(self) -> tuple[Check, ...]:
@@ -741,25 +844,39 @@ class VerifyResult:
 
     def __repr__(self) -> str:
         word = "passed" if self.passed else f"FAILED ({', '.join(c.name for c in self.failures)})"
-        return f"<VerifyResult {word}: {len(self.checks)} checks>"
+        return f"<VerifyResult {word}: {len(self.checks)} checks, {len(self.signatures)} signature(s)>"
 
     def report(self) -> str:
         lines = [f"{c.status.upper():4}  {c.name}: {c.detail}" for c in self.checks]
         head = f"{self.where}: " if self.where else ""
-        lines.append(f"{head}{'verified' if self.passed else 'NOT verified'}")
+        if not self.signatures:
+            tail = ("UNSIGNED: the digest protects it against accidental damage only, not against a deliberate "
+                    "change")
+        else:
+            who = ", ".join(f"{s.name} ({s.role}) at {s.time}" for s in self.signatures)
+            tail = f"signed by {who}"
+        lines.append(f"{head}{'verified' if self.passed else 'NOT verified'}; {tail}")
         return "\n".join(lines)
 
     def to_dict(self) -> dict:
-        return {"passed": self.passed, "checks": [c.to_dict() for c in self.checks]}
+        return {"passed": self.passed, "checks": [c.to_dict() for c in self.checks],
+                "signed": self.signed, "signatures": [s.to_dict() for s in self.signatures]}
 
     def _repr_html_(self) -> str:
         return html_table(("check", "status", "detail"), ((c.name, c.status, c.detail) for c in self.checks),
                           caption="verification " + ("passed" if self.passed else "FAILED"), css_class="fb-table")
 
 
-_GUM_KEYS = ("value", "u", "nu_eff", "k", "U", "coverage_probability", "rounded")
-_CONTRIB_KEYS = ("symbol", "estimate", "u_x", "dof", "sensitivity", "u_contribution", "share")
-_MC_EXACT_KEYS = ("value", "u", "interval", "shortest_interval", "trials", "seed")
+# What verify re-derives.  Every key listed is compared whether or not the record has it (a claim removed
+# from a record is as wrong as one changed); any other recorded key is compared when the fresh result has it.
+_GUM_KEYS = ("value", "u", "nu_eff", "k", "U", "coverage_probability", "rounded", "statement", "warnings",
+             "contributions", "measurand")
+_MC_EXACT_KEYS = ("value", "u", "interval", "shortest_interval", "trials", "seed", "histogram", "warnings",
+                  "coverage_probability", "adaptive", "stabilised")
+_MC_SAME_KEYS = ("trials", "seed", "coverage_probability", "adaptive", "warnings")
+_VALIDATION_KEYS = ("validated", "delta", "d_low", "d_high", "gum_interval", "mc_interval", "advice",
+                    "interval_kind", "coverage_probability", "significant_digits")
+_MISSING = "(missing)"
 
 
 def _plain(x: Any) -> Any:
@@ -767,67 +884,171 @@ def _plain(x: Any) -> Any:
     return json.loads(json.dumps(_jsonable(x, "#")))
 
 
-def _compare_gum(recorded: Mapping, fresh: Mapping) -> list[str]:
-    rec, new = _plain(_thaw(recorded)), _plain(fresh)
+def _diff_keys(rec: Mapping, new: Mapping, keys: tuple[str, ...], *, others: bool = True) -> list[str]:
     diffs = []
-    for key in _GUM_KEYS:
-        if key in rec and rec.get(key) != new.get(key):
-            diffs.append(f"{key}: recorded {_short(rec.get(key))}, recomputed {_short(new.get(key))}")
-    rc, nc = rec.get("contributions") or [], new.get("contributions") or []
-    if len(rc) != len(nc):
-        diffs.append(f"contributions: recorded {len(rc)}, recomputed {len(nc)}")
-    else:
-        for a, b in zip(rc, nc):
-            for key in _CONTRIB_KEYS:
-                if key in a and a.get(key) != b.get(key):
-                    diffs.append(f"{a.get('symbol')}.{key}: recorded {_short(a.get(key))}, "
-                                 f"recomputed {_short(b.get(key))}")
+    more = sorted(k for k in rec if k not in keys and k in new) if others else []
+    for key in list(keys) + more:
+        a, b = rec.get(key, _MISSING), new.get(key, _MISSING)
+        if a != b:
+            diffs.append(f"{key}: recorded {_short(a)}, recomputed {_short(b)}")
     return diffs
 
 
-def _compare_mc(recorded: Mapping, fresh: Mapping, tolerance: Mapping | None) -> tuple[str, str]:
+def _compare_gum(recorded: Mapping, fresh: Mapping) -> list[str]:
+    return _diff_keys(_plain(_thaw(recorded)), _plain(fresh), _GUM_KEYS)
+
+
+def _histogram_problems(rec: Mapping, new: Mapping, tol_value: float) -> list[str]:
+    """Checks of a recorded histogram that hold whatever the generator stream (used when not bit-identical)."""
+    h = rec.get("histogram")
+    if not isinstance(h, Mapping):
+        return ["histogram: missing"]
+    counts, edges = h.get("counts"), h.get("edges")
+    if not (isinstance(counts, list) and isinstance(edges, list) and len(edges) == len(counts) + 1 and counts):
+        return ["histogram: counts and edges do not fit together"]
+    bad = []
+    if any(not isinstance(c, int) or c < 0 for c in counts) or any(b <= a for a, b in zip(edges, edges[1:])):
+        bad.append("histogram: counts must be whole numbers >= 0 over increasing edges")
+        return bad
+    total = sum(counts)
+    if total > int(rec.get("trials", 0)) or total < 0.9 * int(rec.get("trials", 0)):
+        bad.append(f"histogram: holds {total} trials of {rec.get('trials')} (all but the outer tails expected)")
+    if total:
+        mean = sum(c * (a + b) / 2 for c, a, b in zip(counts, edges, edges[1:])) / total
+        width = max(b - a for a, b in zip(edges, edges[1:]))
+        if abs(mean - float(new["value"])) > tol_value + width:
+            bad.append(f"histogram: its mean {mean!r} is not the recomputed value {new['value']!r} "
+                       f"within {tol_value + width:.3g}")
+    return bad
+
+
+def _compare_mc(recorded: Mapping, fresh: Mapping) -> tuple[str, str, bool]:
+    """Compare a recorded Monte Carlo block with a re-run: (status, detail, bit-identical mode).
+
+    The recorded numpy version and generator only choose the mode; the
+    tolerance is this release's own (:func:`monte_carlo_tolerance` of the
+    re-run's u), never a figure read from the record.
+    """
     rec, new = _plain(_thaw(recorded)), _plain(fresh)
     same_stream = (rec.get("numpy_version") == new.get("numpy_version")
                    and rec.get("generator") == new.get("generator"))
     if same_stream:
-        diffs = [k for k in _MC_EXACT_KEYS if k in rec and rec.get(k) != new.get(k)]
+        diffs = _diff_keys(rec, new, _MC_EXACT_KEYS)
         if diffs:
             return "fail", ("not bit-identical with the same seed, generator and numpy "
-                            f"{rec.get('numpy_version')}: " + ", ".join(
-                                f"{k} recorded {_short(rec.get(k))}, recomputed {_short(new.get(k))}" for k in diffs))
-        return "pass", (f"bit-identical: {rec.get('trials')} trials, seed {rec.get('seed')}, "
-                        f"{rec.get('generator')}, numpy {rec.get('numpy_version')}")
-    tol = dict(tolerance or monte_carlo_tolerance(float(rec["u"]), int(rec["trials"])))
-    bad = []
-    if abs(new["value"] - rec["value"]) > tol["value"]:
-        bad.append(f"value differs by {abs(new['value'] - rec['value']):.3g} > {tol['value']:.3g}")
-    if abs(new["u"] - rec["u"]) > tol["u"]:
-        bad.append(f"u differs by {abs(new['u'] - rec['u']):.3g} > {tol['u']:.3g}")
+                            f"{rec.get('numpy_version')}: " + "; ".join(diffs)), True
+        return "pass", (f"bit-identical (histogram and warnings included): {rec.get('trials')} trials, seed "
+                        f"{rec.get('seed')}, {rec.get('generator')}, numpy {rec.get('numpy_version')}"), True
+    tol = monte_carlo_tolerance(float(new["u"]), int(new["trials"]))
+    bad = _diff_keys(rec, new, _MC_SAME_KEYS, others=False)
+    for key in ("value", "u"):
+        a, b = rec.get(key), new.get(key)
+        if not isinstance(a, (int, float)) or isinstance(a, bool) or abs(b - a) > tol[key]:
+            bad.append(f"{key} recorded {_short(a)}, recomputed {b!r} (tolerance {tol[key]:.3g})")
     for key in ("interval", "shortest_interval"):
         a, b = rec.get(key), new.get(key)
-        if a and b:
-            d = max(abs(x - y) for x, y in zip(a, b))
-            if d > tol["interval"]:
-                bad.append(f"{key} ends differ by {d:.3g} > {tol['interval']:.3g}")
+        if not (isinstance(a, list) and len(a) == 2 and all(isinstance(x, (int, float)) for x in a)):
+            bad.append(f"{key}: recorded {_short(a)}")
+        elif max(abs(x - y) for x, y in zip(a, b)) > tol["interval"]:
+            bad.append(f"{key} ends differ by {max(abs(x - y) for x, y in zip(a, b)):.3g} > {tol['interval']:.3g}")
+    bad += _histogram_problems(rec, new, tol["value"])
     why = (f"generator stream differs (recorded {rec.get('generator')} with numpy {rec.get('numpy_version')}, "
-           f"now {new.get('generator')} with numpy {new.get('numpy_version')}); compared within the stated "
-           f"tolerance ({tol.get('rule', '')})")
-    return ("fail", why + ": " + "; ".join(bad)) if bad else ("pass", why)
+           f"now {new.get('generator')} with numpy {new.get('numpy_version')}); compared within this release's "
+           f"tolerance ({tol['rule']})")
+    return ("fail", why + ": " + "; ".join(bad), False) if bad else ("pass", why, False)
 
 
-def verify_record(record: Record | str | Path) -> VerifyResult:
-    """Re-check a record: its digest, its file form, and its results recomputed from its inputs.
+def _compare_validation(recorded: Mapping | None, gum_result, mc_fresh, mc_recorded: Mapping, bit_identical: bool):
+    """Re-derive the validation block (JCGM 101 clause 8) and compare it with the recorded one.
 
-    Given a path, the file is read with the digest check deferred so that a
-    mismatch is reported as a failed check; a file that cannot be read at all
-    still raises :class:`~fieldbudget.errors.RecordError`.
+    With a bit-identical re-run it is computed from the re-run; otherwise from
+    the recorded Monte Carlo figures (already checked against the re-run) and
+    the recomputed GUM result, so the comparison is exact either way.
     """
+    from dataclasses import replace
+
+    from ..engine import validation
+
+    mc = mc_fresh
+    if not bit_identical:
+        r = _thaw(mc_recorded)
+        mc = replace(mc_fresh, estimate=float(r["value"]), standard_uncertainty=float(r["u"]),
+                     interval=tuple(map(float, r["interval"])),
+                     shortest_interval=tuple(map(float, r["shortest_interval"])))
+    fresh = validation.validate(gum_result, mc).to_dict()
+    if recorded is None:
+        return Check("validation", "fail", f"the record has no validation block; recomputed "
+                                           f"validated = {fresh['validated']}")
+    diffs = _diff_keys(_plain(_thaw(recorded)), _plain(fresh), _VALIDATION_KEYS)
+    if diffs:
+        return Check("validation", "fail", "recomputed validation differs: " + "; ".join(diffs))
+    return Check("validation", "pass", f"d_low, d_high, delta, validated ({fresh['validated']}) and the advice "
+                                       "agree with the recomputation")
+
+
+def _read_for_verify(path: str | Path) -> bytes:
+    p = Path(path)
+    if str(path) == "":
+        raise RecordError("'': an empty path names no record file")
+    if p.is_dir():
+        raise RecordError(f"{path}: is a folder, not a record file")
+    try:
+        return p.read_bytes()
+    except FileNotFoundError:
+        raise RecordError(f"{path}: no such record file") from None
+    except OSError as err:
+        raise RecordError(f"{path}: cannot read the record ({err.strerror or type(err).__name__})") from None
+
+
+def _signature_checks(record: Record, trusted: str | Path | Mapping | None) -> tuple[list[Check], tuple]:
+    from .signing import check_signature, load_trusted
+
+    keys = None
+    if trusted is not None:
+        keys = dict(trusted) if isinstance(trusted, Mapping) else load_trusted(trusted)
+    results = tuple(check_signature(_thaw(s), record.computed_digest(), keys) for s in record.signatures)
+    checks = []
+    if not results:
+        checks.append(Check("signatures", "info", "UNSIGNED: nobody signed this record; the digest protects it "
+                                                  "against accidental damage only"))
+    for r in results:
+        status = "pass" if r.valid else "fail"
+        checks.append(Check(f"signature of {r.name or '?'}", status,
+                            f"{r.role or '?'} at {r.time or '?'}, key {r.fingerprint[:16] or '?'}: {r.detail}"))
+    if results and keys is None:
+        checks.append(Check("trusted keys", "info", "no --trusted folder given: signatures were checked as intact, "
+                                                    "but not whose keys they are"))
+    return checks, results
+
+
+def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping | None = None) -> VerifyResult:
+    """Re-check a record: digest, file form, signatures, and every result recomputed from its inputs.
+
+    ``trusted`` is a folder of ``.pub`` files (or a mapping fingerprint ->
+    :class:`~fieldbudget.files.signing.PublicKey`): every signature must then
+    come from a trusted key under the same name and role.  Given a path, the
+    file is read with the digest check deferred so that a mismatch is reported
+    as a failed check; a file that cannot be read at all still raises
+    :class:`~fieldbudget.errors.RecordError`.
+
+    Re-derived and compared: the GUM results (value, u, nu_eff, k, U, the
+    rounded result, every contribution, the statement and its warnings) to the
+    last digit; the Monte Carlo block (bit for bit, histogram and warnings
+    included, when the recorded numpy version and generator are the current
+    ones, else within this release's own tolerance); the validation block
+    (d_low, d_high, delta, validated, advice).
+    """
+    from . import calibration_record as cr
+
+    if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
+                                                    cr.record_kind(record) in cr.KINDS):
+        return cr.verify_calibration_record(record)
     checks: list[Check] = []
     where = ""
     if isinstance(record, (str, Path)):
         where = str(record)
-        raw = Path(record).read_bytes()
-        record = load_record(record, check_digest=False)
+        raw = _read_for_verify(record)
+        record = record_from_dict(parse_record_text(raw, where), where=where)
         checks.append(Check("schema", "pass", f"follows record schema {record.schema_version}"))
         as_written = serialise(record).encode("utf-8")
         if raw.replace(b"\r\n", b"\n") == as_written:
@@ -843,45 +1064,54 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
         checks.append(Check("digest", "pass", f"SHA-256 {computed}"))
     else:
         checks.append(Check("digest", "fail", f"stored {record.digest or '(none)'} but the content gives {computed}"))
+    sig_checks, sig_results = _signature_checks(record, trusted)
+    checks.extend(sig_checks)
 
     from ..engine import Budget, evaluate
+
+    def done() -> VerifyResult:
+        return VerifyResult(tuple(checks), where, sig_results, trusted is not None)
 
     try:
         budget = Budget.from_dict(budget_content(record), where="record budget")
     except FieldbudgetError as err:
         checks.append(Check("budget", "fail", f"the recorded budget no longer loads: {err}"))
-        return VerifyResult(tuple(checks), where)
+        return done()
     checks.append(Check("budget", "pass", "the recorded budget content loads"))
     try:
-        fresh = evaluate(budget).to_dict()
+        gum_result = evaluate(budget)
+        fresh = gum_result.to_dict()
     except FieldbudgetError as err:
         checks.append(Check("GUM", "fail", f"re-evaluation failed: {err}"))
-        return VerifyResult(tuple(checks), where)
+        return done()
     diffs = _compare_gum(record.gum, fresh)
     if diffs:
         checks.append(Check("GUM", "fail", "recomputed results differ: " + "; ".join(diffs)))
     else:
-        checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff, the rounded result and every contribution "
-                                           f"agree to the last digit (U = {fmt(float(fresh['U']), 6)})"))
-    # The wording of the statement may improve between releases; the numbers above are what must agree.
-    if fresh.get("statement") == record.gum.get("statement"):
-        checks.append(Check("statement", "pass", "the statement reads as recorded"))
-    else:
-        checks.append(Check("statement", "info", f"this release words the statement differently: recorded "
-                                                 f"{record.gum.get('statement')!r}, now {fresh.get('statement')!r}"))
+        checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff, the rounded result, the statement, the "
+                                           f"warnings and every contribution agree to the last digit "
+                                           f"(U = {fmt(float(fresh['U']), 6)})"))
 
     if record.monte_carlo is None:
         checks.append(Check("Monte Carlo", "info", "no Monte Carlo run in this record"))
+        if record.validation is not None:
+            checks.append(Check("validation", "fail", "the record has a validation block but no Monte Carlo run"))
     else:
         mc = record.monte_carlo
         try:
-            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive"))).to_dict()
-        except FieldbudgetError as err:
+            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive")))
+        except (FieldbudgetError, TypeError, ValueError) as err:
             checks.append(Check("Monte Carlo", "fail", f"re-run failed: {err}"))
         else:
-            tol = (record.monte_carlo_settings or {}).get("tolerance")
-            status, detail = _compare_mc(mc, again, tol)
+            status, detail, exact = _compare_mc(mc, again.to_dict())
             checks.append(Check("Monte Carlo", status, detail))
+            if status == "pass":
+                try:
+                    checks.append(_compare_validation(record.validation, gum_result, again, mc, exact))
+                except (FieldbudgetError, TypeError, ValueError, KeyError) as err:
+                    checks.append(Check("validation", "fail", f"cannot be recomputed: {err}"))
+            else:
+                checks.append(Check("validation", "info", "not recomputed: the Monte Carlo block does not hold"))
 
     now = software_versions()
     then = _thaw(record.software)
@@ -889,7 +1119,7 @@ def verify_record(record: Record | str | Path) -> VerifyResult:
              if then.get(k) != now.get(k)]
     checks.append(Check("software", "info", "same versions as recorded" if not moved
                         else "versions differ from the record: " + ", ".join(moved)))
-    return VerifyResult(tuple(checks), where)
+    return done()
 
 
 # ----------------------------------------------------------------------------

@@ -28,6 +28,7 @@ removes the sample average (B''/2) <q> of the field about the sample centre.
 from __future__ import annotations
 
 import csv
+import io
 import json
 import math
 from collections.abc import Mapping
@@ -38,6 +39,7 @@ from types import MappingProxyType
 import numpy as np
 
 from .. import _display as D
+from .._io import read_json_file, read_named_text
 from .. import constants
 from ..engine import (
     Budget,
@@ -233,15 +235,7 @@ class NMRMeasurement:
     @classmethod
     def from_file(cls, path: str | Path) -> NMRMeasurement:
         p = Path(path)
-        try:
-            text = p.read_text(encoding="utf-8")
-        except OSError as err:
-            raise BudgetFileError(str(p), "", f"cannot be read ({err.strerror or err})") from None
-        try:
-            d = json.loads(text)
-        except json.JSONDecodeError as err:
-            raise BudgetFileError(str(p), "", f"is not valid JSON: {err.msg} at line {err.lineno}, "
-                                  f"column {err.colno}") from None
+        d = read_json_file(p, what="measurement file")
         return cls(d, where=str(p), base_dir=str(p.parent))
 
     def to_dict(self) -> dict:
@@ -349,8 +343,9 @@ def _build(m: NMRMeasurement) -> Budget:
     except InputError as err:
         raise top.fail("nucleus", f"must be {err.allowed} (got {name!r})") from None
     codata = m.description.get("codata", constants.DEFAULT_EDITION)
-    if codata not in constants.editions() or isinstance(codata, bool):
-        raise top.fail("codata", f"must be one of the CODATA editions {list(constants.editions())} (got {codata!r})")
+    if isinstance(codata, bool) or not isinstance(codata, int) or codata not in constants.editions():
+        raise top.fail("codata", f"must be one of the CODATA editions {list(constants.editions())}, a whole number "
+                                 f"(got {codata!r})")
     p_cov = top.number("coverage_probability", 0.9545)
     if not 0 < p_cov < 1:
         raise top.fail("coverage_probability", f"must lie between 0 and 1 (got {p_cov!r})")
@@ -588,18 +583,15 @@ def _csv_readings(fr: _Reader, m: NMRMeasurement) -> tuple[float, ...]:
     if not isinstance(spec, Mapping) or not isinstance(spec.get("path"), str) or not isinstance(
             spec.get("column"), str):
         raise BudgetFileError(m.where, ptr, "must be an object with 'path' and 'column' (text)")
-    path = Path(spec["path"])
-    if not path.is_absolute():
-        path = Path(m.base_dir) / path
-    try:
-        with open(path, newline="", encoding="utf-8") as fh:
-            rows = list(csv.DictReader(fh))
-    except OSError as err:
-        raise BudgetFileError(m.where, f"{ptr}/path", f"cannot read {str(path)!r} ({err.strerror or err})") from None
+    name = spec["path"]
+    text, _ = read_named_text(name, m.base_dir, m.where, f"{ptr}/path")
+    rows = list(csv.DictReader(io.StringIO(text, newline="")))
     col = spec["column"]
     if not rows or col not in rows[0]:
         cols = list(rows[0]) if rows else []
-        raise BudgetFileError(m.where, f"{ptr}/column", f"must name a column of {str(path)!r} (columns: {cols})")
+        # the header is not shown: messages never print another file's contents
+        raise BudgetFileError(m.where, f"{ptr}/column", f"must name a column of {name!r} by its header (it has "
+                              f"{len(cols)} column{'s' if len(cols) != 1 else ''}, none named {col!r})")
     out = []
     for i, row in enumerate(rows, start=2):
         cell = (row[col] or "").strip()
@@ -608,8 +600,8 @@ def _csv_readings(fr: _Reader, m: NMRMeasurement) -> tuple[float, ...]:
         try:
             out.append(float(cell))
         except ValueError:
-            raise BudgetFileError(m.where, f"{ptr}/column", f"row {i} of {str(path)!r} is not a number "
-                                  f"({cell!r})") from None
+            raise BudgetFileError(m.where, f"{ptr}/column", f"row {i} of {name!r} is not a number in column "
+                                  f"{col!r}") from None
     if len(out) < 2:
         raise BudgetFileError(m.where, ptr, f"needs at least 2 readings (got {len(out)})")
     return tuple(out)

@@ -506,11 +506,13 @@ class ProcedureRun:
         d = self.measurement_dict()
         return atomic_write_text(path, json.dumps(d, indent=2, ensure_ascii=False) + "\n")
 
-    def make_record(self, *, monte_carlo: Any = None, seed: int | None = None, remarks: str = "") -> Any:
+    def make_record(self, *, monte_carlo: Any = None, seed: int | None = None, remarks: str = "",
+                    sign: Any = None, passphrase: str | None = None) -> Any:
         """A record of the last good budget naming this procedure, its operator and the acceptance verdict.
 
         ``monte_carlo`` and ``seed`` are passed to
-        :func:`fieldbudget.files.record.make_record` (a number of trials, or None).
+        :func:`fieldbudget.files.record.make_record` (a number of trials, or None);
+        ``sign`` (a signing key or key file, with ``passphrase``) signs it.
         """
         from ..files.record import make_record
 
@@ -520,9 +522,21 @@ class ProcedureRun:
         verdict = {True: "every acceptance limit met", False: "an acceptance limit NOT met",
                    None: "acceptance incomplete"}[self.check().accepted if self._current else None]
         text = f"{remarks} " if remarks else ""
+        if self.procedure.kind == "teslameter-calibration":
+            # a calibration record: points, covariance, curve, conformity and the certificate details
+            from ..files.calibration_file import CalibrationFile
+
+            base = Path(self.procedure.path).parent if self.procedure.path else Path(".")
+            cal = CalibrationFile.from_dict(
+                self.measurement().calibration_file(self.record_dict().get("certificate")),
+                where=self._values_where, base_dir=base)
+            return make_record(cal, monte_carlo=monte_carlo if isinstance(monte_carlo, int) else None, seed=seed,
+                               procedure=self.procedure, operator=str(self.record_dict().get("operator", "")),
+                               remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
         return make_record(budget, monte_carlo=monte_carlo, seed=seed, procedure=self.procedure,
                            operator=str(self.record_dict().get("operator", "")),
-                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.")
+                           remarks=f"{text}Procedure {self.procedure.id} v{self.procedure.version}: {verdict}.",
+                           sign=sign, passphrase=passphrase)
 
     # ------------------------------------------------------------ acceptance
     def check(self, result: Any = _LATEST) -> AcceptanceReport:

@@ -156,6 +156,73 @@ class TeslameterCalibration:
             u_position_offset_m=_num(d, "u_position_offset_m", where, 0.0),
             shared=SHARED_REFERENCE_INPUTS)
 
+    def calibration_file(self, certificate: Mapping | None = None) -> dict:
+        """This calibration as calibration file content (``fieldbudget-calibration/1``).
+
+        ``certificate``: the certificate details the procedure collects under
+        ``record.certificate`` (``certificate_id``, ``lab``, ``customer``,
+        ``item``, ``dates``, ``traceability``, ``authorised_by`` as
+        ``"name, function"``); the NMR reference of each point is given inline,
+        with its frequency readings.
+        """
+        d, where = self.description, self.where
+        ref = d.get("reference")
+        if not isinstance(ref, Mapping):
+            raise BudgetFileError(where, "#/reference", "missing: the NMR reference description shared by the points")
+        cert = {k: (dict(v) if isinstance(v, Mapping) else v) for k, v in dict(certificate or {}).items()}
+        u_t = _num(d, "u_temperature_C", where, 0.0)
+        pts, temps = [], []
+        for name, slot in self.rows().items():
+            nmr = {k: (dict(v) if isinstance(v, Mapping) else v) for k, v in ref.items()}
+            nmr["frequency"] = dict(nmr.get("frequency") or {}, readings_Hz=slot["f"])
+            p: dict = {"id": name, "readings_T": slot["hall"],
+                       "gradient_T_per_m": _num(d, "gradient_T_per_m", where, 0.0),
+                       "u_gradient_T_per_m": _num(d, "u_gradient_T_per_m", where, 0.0)}
+            if slot["t"]:
+                t = float(np.mean(slot["t"]))
+                temps.append(t)
+                nmr["sample"] = dict(nmr.get("sample") or {}, temperature_C=t)
+                p["temperature_C"], p["u_temperature_C"] = t, u_t
+            p["reference"] = {"measurement": nmr}
+            pts.append(p)
+        auth = cert.pop("authorised_by", None)
+        out: dict = {"format": "fieldbudget-calibration/1"}
+        for key in ("certificate_id", "lab", "customer", "item", "dates", "traceability", "method", "remarks"):
+            if cert.get(key):
+                out[key] = cert[key]
+        if isinstance(auth, str) and auth.strip():
+            name, _, function = auth.partition(",")
+            out["authorised_by"] = [{"name": name.strip(), "function": function.strip()}]
+        item = dict(out.get("item") or {})
+        if not item and d.get("instrument"):
+            item = {"type": str(d["instrument"])}
+        if item:
+            out["item"] = item
+        if temps:
+            out["environment"] = {"temperature_C": round(float(np.mean(temps)), 2), "u_temperature_C": u_t}
+        out.update({
+            "points": pts, "resolution_T": _num(d, "resolution_T", where),
+            "tilt": {"u_rad": _num(d, "tilt_u_rad", where, 0.0), "per_point": bool(d.get("tilt_per_point", False))},
+            "position_offset": {"value_m": _num(d, "position_offset_m", where, 0.0),
+                                "u_m": _num(d, "u_position_offset_m", where, 0.0)},
+            "temperature_coefficient": {"per_K": _num(d, "temperature_coefficient_per_K", where, 0.0),
+                                        "u_per_K": _num(d, "u_temperature_coefficient_per_K", where, 0.0),
+                                        "reference_temperature_C": _num(d, "reference_temperature_C", where, 23.0)},
+            "zero_offset": {"value_T": _num(d, "zero_offset_T", where, 0.0),
+                            "u_T": _num(d, "u_zero_offset_T", where, 0.0)},
+            "shared": list(SHARED_REFERENCE_INPUTS),
+            "curve": {"form": "error", "degree": int(d.get("degree", 1))},
+            "propagation": str(d.get("propagation", "auto")),
+            "monte_carlo_trials": int(d.get("monte_carlo_trials", 200_000)),
+            "monte_carlo_seed": int(d.get("monte_carlo_seed", 1)),
+        })
+        tol = d.get("tolerance") or {}
+        if tol:
+            out["tolerance"] = {"relative": float(tol.get("relative", 0.0)),
+                                "absolute_T": float(tol.get("absolute_T", 0.0)), "source": str(tol.get("source", ""))}
+            out["decision_rule"] = {"rule": "simple acceptance"}
+        return out
+
     def to_budget(self) -> Any:
         """The merged calibration budget (one output E_i per point)."""
         return self.calibration_set().budget
@@ -183,10 +250,9 @@ class TeslameterCalibration:
             rel, ab = float(tol.get("relative", 0.0)), float(tol.get("absolute_T", 0.0))
             for p in result.points:
                 half = rel * abs(p.reference) + ab
-                # The propagated values (Monte Carlo when it was used), not the first-order table.
+                # The propagated values and distribution (Monte Carlo's histogram when it was used).
                 verdicts.append(assess_conformity(
-                    Tolerance(-half, half, "T", str(tol.get("source", ""))), estimate=p.error,
-                    standard_uncertainty=p.u_error, coverage_factor=p.expanded_uncertainty / p.u_error,
+                    Tolerance(-half, half, "T", str(tol.get("source", ""))), p, distribution="auto",
                     measurand=f"E at {p.name}"))
         warnings = tuple(dict.fromkeys(tuple(result.warnings) + (tuple(curve.warnings) if curve else ())))
         return TeslameterOutcome(calibration=result, curve=curve, conformity=tuple(verdicts), warnings=warnings)

@@ -39,6 +39,14 @@ def _format(to: str | None, path: str | Path | None) -> str:
 def render(record, to: str) -> bytes:
     """The report of ``record`` in format ``to`` (one of :data:`FORMATS`), as bytes (text is UTF-8)."""
     to = _format(to, None)
+    if getattr(record, "kind", None) == "fieldbudget calibration record":
+        # a calibration's report is its certificate
+        from .certificate import CERTIFICATE_FORMATS, render_certificate
+
+        if to not in CERTIFICATE_FORMATS:
+            raise InputError("report format", to, f"one of {', '.join(CERTIFICATE_FORMATS)} for a calibration "
+                             "record (its certificate)", "report")
+        return render_certificate(record, to)
     data = build_report_data(record)
     if to == "html":
         from .html import render_html

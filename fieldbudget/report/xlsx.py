@@ -41,17 +41,19 @@ CELLS = {"estimate": "B", "stated": "F", "divisor": "G", "limit": "H", "u_x": "I
 
 
 def _safe_text(x: object) -> str:
-    """Text cell content that a spreadsheet will not read as a formula."""
-    s = "" if x is None else str(x)
-    return "'" + s if s[:1] in ("=", "+", "-", "@") and not _is_number(s) else s
+    """The text of a text cell (written as a string cell by :func:`_t`, so it is never read as a formula)."""
+    return "" if x is None else str(x)
 
 
-def _is_number(s: str) -> bool:
-    try:
-        float(s)
-        return True
-    except ValueError:
-        return False
+def _t(cell, x: object):
+    """Put ``x`` in ``cell`` as *text*: openpyxl would store a text starting with ``=`` as a formula.
+
+    The cell's type is set to string, so the text shows as written, with no
+    visible leading apostrophe, and a spreadsheet never evaluates it.
+    """
+    cell.value = _safe_text(x)
+    cell.data_type = "s"
+    return cell
 
 
 def render_xlsx(data: ReportData, record) -> bytes:
@@ -60,9 +62,10 @@ def render_xlsx(data: ReportData, record) -> bytes:
     ws = wb.active
     ws.title = BUDGET_SHEET
     bold = Font(bold=True)
-    ws["A1"] = _safe_text(data.title)
+    _t(ws["A1"], data.title)
     ws["A1"].font = Font(bold=True, size=13)
-    ws["A2"], ws["B2"] = "Model", _safe_text(data.equation)
+    ws["A2"] = "Model"
+    _t(ws["B2"], data.equation)
     ws["A3"], ws["B3"] = "Record SHA-256", data.digest
     ws["A4"] = ("Grey cells are inputs; u(x_i), u_i(y), u_c and U are formulas. "
                 "c_i and k are the values fieldbudget computed.")
@@ -81,16 +84,16 @@ def render_xlsx(data: ReportData, record) -> bytes:
     for i, r in enumerate(rows):
         n = FIRST_ROW + i
         spec = inputs.get(r.symbol, {}) or {}
-        ws.cell(row=n, column=1, value=_safe_text(r.symbol))
-        ws.cell(row=n, column=3, value=_safe_text(r.unit))
-        ws.cell(row=n, column=4, value=_safe_text(r.distribution))
-        ws.cell(row=n, column=5, value=_safe_text(r.how_stated))
+        _t(ws.cell(row=n, column=1), r.symbol)
+        _t(ws.cell(row=n, column=3), r.unit)
+        _t(ws.cell(row=n, column=4), r.distribution)
+        _t(ws.cell(row=n, column=5), r.how_stated)
         if "readings" in spec:
             if readings_ws is None:
                 readings_ws = wb.create_sheet("Readings")
             readings_col += 1
             col = get_column_letter(readings_col)
-            readings_ws.cell(row=1, column=readings_col, value=_safe_text(r.symbol)).font = bold
+            _t(readings_ws.cell(row=1, column=readings_col), r.symbol).font = bold
             vals = [float(v) for v in spec["readings"]]
             for k, v in enumerate(vals, start=2):
                 readings_ws.cell(row=k, column=readings_col, value=v).fill = grey
@@ -123,7 +126,7 @@ def render_xlsx(data: ReportData, record) -> bytes:
         ws.cell(row=n, column=11, value=r.sensitivity).fill = grey
         ws.cell(row=n, column=12, value=f"=ABS(K{n})*I{n}")
         ws.cell(row=n, column=13, value=f"=L{n}^2/{ucell}^2")
-        ws.cell(row=n, column=14, value=_safe_text(r.source))
+        _t(ws.cell(row=n, column=14), r.source)
 
     # correlation coefficients, as input cells
     corr_first = last + 12
@@ -136,8 +139,8 @@ def render_xlsx(data: ReportData, record) -> bytes:
         ws.cell(row=corr_first - 1, column=4, value="r(a, b)")
         for j, (a, b, rr) in enumerate(data.correlations):
             n = corr_first + j
-            ws.cell(row=n, column=2, value=_safe_text(a))
-            ws.cell(row=n, column=3, value=_safe_text(b))
+            _t(ws.cell(row=n, column=2), a)
+            _t(ws.cell(row=n, column=3), b)
             ws.cell(row=n, column=4, value=float(rr)).fill = grey
             if a in row_of and b in row_of:
                 ia, ib = row_of[a], row_of[b]
@@ -175,8 +178,8 @@ def render_xlsx(data: ReportData, record) -> bytes:
     lines += [(f"Software: {k}", v) for k, v in data.software]
     lines += [("Record SHA-256", data.digest)]
     for i, (k, v) in enumerate(lines, start=1):
-        info.cell(row=i, column=1, value=_safe_text(k)).font = bold
-        info.cell(row=i, column=2, value=_safe_text(v))
+        _t(info.cell(row=i, column=1), k).font = bold
+        _t(info.cell(row=i, column=2), v)
     info.column_dimensions["A"].width = 40
     info.column_dimensions["B"].width = 100
 

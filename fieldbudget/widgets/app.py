@@ -11,7 +11,6 @@ leave two live forms fighting over one draft.
 
 from __future__ import annotations
 
-import json
 import os
 import weakref
 from collections.abc import Mapping
@@ -82,7 +81,9 @@ class App(w.VBox):
 def _load(source: Any) -> tuple[Any, Path | None]:
     if isinstance(source, (str, os.PathLike)):
         p = Path(source)
-        return json.loads(p.read_text(encoding="utf-8")), p.parent
+        from .._io import read_json_file
+
+        return read_json_file(p), p.parent
     return source, None
 
 

@@ -30,11 +30,15 @@ def report_writers() -> tuple[str, ...]:
     return tuple(FORMATS)
 
 
-def _record(budget: Any, job: Any) -> Any:
+def _record(budget: Any, job: Any, draft: Any = None, sign: Any = None) -> Any:
     from ..files.record import make_record
 
     mc = job.result if job is not None and job.state == "done" and job.budget is budget else None
-    return make_record(budget, monte_carlo=mc, seed=mc.seed if mc is not None else None)
+    seed = mc.seed if mc is not None else None
+    maker = getattr(draft, "make_record", None)
+    if callable(maker):  # a procedure run names itself in its record (a calibration: the calibration record)
+        return maker(monte_carlo=mc, seed=seed, sign=sign) if sign is not None else maker(monte_carlo=mc, seed=seed)
+    return make_record(budget, monte_carlo=mc, seed=seed, sign=sign)
 
 
 class ExportBar(w.VBox):
@@ -47,13 +51,20 @@ class ExportBar(w.VBox):
         ``save_measurement(path)``.
     folder : str or Path
         Where files go when a bare name is given (the notebook's folder by default).
+    sign : SigningKey, optional
+        Sign the records (and the records behind reports) with this key
+        (:func:`fieldbudget.files.signing.load_signing_key`).
+
+    A record is never overwritten; an existing report or budget file only
+    when "replace existing files" is ticked.
     """
 
     def __init__(self, draft: Any, folder: str | os.PathLike = ".", stem: str = "budget", job: Any = None,
-                 **kwargs) -> None:
+                 sign: Any = None, **kwargs) -> None:
         super().__init__(**kwargs)
         self.draft = draft
         self.job = job
+        self.sign = sign
         self.folder = Path(folder)
         self.status = css(w.HTML(), "fb-status")
         self._armed: tuple[str, Path] | None = None
@@ -79,7 +90,9 @@ class ExportBar(w.VBox):
         self.record_button = css(w.Button(description="save record", icon="archive", **auto,
                                           tooltip="hash-stamped record an assessor can re-check"), "fb-export-record")
         self.record_button.on_click(self._save_record)
-        reports = w.HBox([self.report_format, self.report_button, self.record_button])
+        self.replace = css(w.Checkbox(value=False, description="replace existing files (never a record)",
+                                      indent=False), "fb-export-replace")
+        reports = w.HBox([self.report_format, self.report_button, self.record_button, self.replace])
         if not self.writers:
             reports.layout.display = "none"
         self.children = [w.HBox(row), reports, self.status]
@@ -90,6 +103,11 @@ class ExportBar(w.VBox):
         if suffix is not None:
             p = p.with_suffix(suffix)
         return p if p.is_absolute() else self.folder / p
+
+    def _allowed(self, path: Path, what: str) -> Path:
+        from ..files.guard import check_output
+
+        return check_output(path, force=bool(self.replace.value), what=what)
 
     def _done(self, path: Path) -> None:
         self._armed = None
@@ -111,15 +129,11 @@ class ExportBar(w.VBox):
             return
         from ..files.budget_file import save_budget
 
-        target = self._target()
-        if self._may_write("budget", target):
-            self._done(save_budget(self.draft.budget, target))
+        self._done(save_budget(self.draft.budget, self._allowed(self._target(), "budget file")))
 
     @guarded
     def _save_measurement(self, _button=None) -> None:
-        target = self._target(".measurement.json")
-        if self._may_write("measurement", target):
-            self._done(self.draft.save_measurement(target))
+        self._done(self.draft.save_measurement(self._allowed(self._target(".measurement.json"), "measurement file")))
 
     @guarded
     def _report(self, _button=None) -> None:
@@ -130,9 +144,8 @@ class ExportBar(w.VBox):
 
         fmt = self.report_format.value
         suffix = next(s for s, f in SUFFIXES.items() if f == fmt)
-        target = self._target(suffix)
-        if self._may_write("report", target):
-            self._done(write_report(_record(self.draft.budget, self.job), target, to=fmt))
+        target = self._allowed(self._target(suffix), "report")
+        self._done(write_report(_record(self.draft.budget, self.job, self.draft, self.sign), target, to=fmt))
 
     @guarded
     def _save_record(self, _button=None) -> None:
@@ -141,9 +154,14 @@ class ExportBar(w.VBox):
             return
         from ..files.record import save_record
 
-        target = self._target(".record.json")
-        if self._may_write("record", target):
-            self._done(save_record(_record(self.draft.budget, self.job), target))
+        from ..files.guard import check_output
+
+        target = check_output(self._target(".record.json"), force=True, what="record")
+        if target.exists():
+            self.status.value = status_html(f"{target} exists already: a record is never replaced; "
+                                            "give another name")
+            return
+        self._done(save_record(_record(self.draft.budget, self.job, self.draft, self.sign), target))
 
     def __repr__(self) -> str:
         return f"<ExportBar {self.path.value!r}, reports: {', '.join(self.writers) or 'none'}>"

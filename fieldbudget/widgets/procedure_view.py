@@ -160,6 +160,9 @@ class _ExportSource:
     def save_measurement(self, path):
         return self.run.save_measurement(path)
 
+    def make_record(self, **kw):
+        return self.run.make_record(**kw)
+
 
 class ProcedureView:
     """The guided form for one :class:`ProcedureRun`; ``view.widget`` is what the notebook shows.

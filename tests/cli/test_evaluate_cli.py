@@ -63,7 +63,10 @@ def test_monte_carlo_keys(budget_file, capsys):
     mc = json.loads(capsys.readouterr().out)["mc"]
     for key in ("value", "u", "interval", "shortest_interval", "trials", "seed", "validated"):
         assert key in mc
-    assert mc["trials"] == 20000 and mc["seed"] == 7 and isinstance(mc["validated"], bool)
+    assert mc["trials"] == 20000 and mc["seed"] == 7
+    # two stages of 10 000 trials cannot estimate the spread of the interval ends: undecided, with the M needed
+    assert mc["validated"] is None and mc["validation"]["verdict"] == "undecided"
+    assert mc["validation"]["trials_needed"] >= 100_000
 
 
 def test_second_order_key(budget_file, capsys):
@@ -78,3 +81,38 @@ def test_monte_carlo_of_a_several_output_budget(tmp_path, capsys):
     assert main(["evaluate", str(p), "--json", "--monte-carlo", "400000", "--seed", "3"]) == 0
     out = json.loads(capsys.readouterr().out)
     assert [o["mc"]["validated"] for o in out["outputs"]] == [True, True]
+
+
+def test_monte_carlo_count_may_be_written_as_a_float(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--json", "--monte-carlo", "1e5", "--seed", "1"]) == 0
+    assert json.loads(capsys.readouterr().out)["mc"]["trials"] == 100_000
+
+
+@pytest.mark.parametrize("bad", ["1.5", "0", "-3", "many", "1e400"])
+def test_monte_carlo_count_that_is_not_whole_is_refused(budget_file, capsys, bad):
+    try:
+        code = main(["evaluate", str(budget_file), "--monte-carlo", bad])
+    except SystemExit as exc:
+        code = exc.code
+    assert code == 2
+    assert "whole number of trials" in capsys.readouterr().err
+
+
+def test_seed_without_monte_carlo_warns(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--seed", "5"]) == 0
+    assert "--seed is ignored" in capsys.readouterr().err
+
+
+def test_adaptive_with_a_count_treats_it_as_the_limit(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--json", "--adaptive", "--monte-carlo", "100000", "--seed", "2"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["mc"]["trials"] <= 100_000 and out["mc"]["adaptive"] is True
+    assert "at most 100000 trials" in out["notes"][0]
+
+
+def test_second_order_line_says_which_u_the_statement_uses(budget_file, capsys):
+    assert main(["evaluate", str(budget_file), "--second-order"]) == 0
+    out = capsys.readouterr().out
+    assert "the statement uses the first-order u_c" in out
+    assert main(["evaluate", str(budget_file), "--json", "--second-order"]) == 0
+    assert json.loads(capsys.readouterr().out)["statement_u"] == "first_order"

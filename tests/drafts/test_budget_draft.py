@@ -127,7 +127,7 @@ def test_inconsistent_meaning_and_distribution_is_marked_on_the_row():
 
 def test_rows_add_remove_reorder():
     d = linear_draft()
-    r = d.add_row(symbol="c", estimate="0", uncertainty="0.1")
+    r = d.add_row(symbol="c", estimate="0", uncertainty="0.1", unit="V")
     assert d.current  # an input not in the model: sensitivity 0
     d.set_model("a + b + c")
     assert [c.symbol for c in d.result.contributions] == ["a", "b", "c"]

@@ -28,7 +28,9 @@ def test_run_in_thread_gives_result_progress_and_validation():
     assert job.wait(60)
     assert job.state == "done", job.error
     assert math.isclose(job.result.standard_uncertainty, 0.5, rel_tol=0.01)
-    assert job.validation is not None and job.validation.passed  # linear, normal inputs: GUM is exact
+    # linear, normal inputs: GUM is exact, so never "not validated"; at 1e6 trials the ends are known to about
+    # 0.8 delta (delta = 1 % of u here), so the verdict may stay undecided
+    assert job.validation is not None and job.validation.passed is not False
     assert seen[0][0] == "running" and seen[-1][0] == "done"
     assert job.done == job.planned == 1_000_000
     assert "done" in repr(job)

@@ -11,7 +11,7 @@ import textwrap
 
 import pytest
 
-from fieldbudget.errors import DigestMismatch, RecordError, SchemaVersionError
+from fieldbudget.errors import DigestMismatch, OutputError, RecordError, SchemaVersionError
 from fieldbudget.files import atomic
 from fieldbudget.files.record import (
     load_record,
@@ -170,8 +170,8 @@ def test_newer_truncated_and_wrong_type_each_have_their_own_message(saved, tmp_p
     (b'{"schema_version": 1}', "no text 'schema_version'"),
     (b'{"schema_version": "one"}', "must be 'major.minor'"),
     (b'{"a": 1, "a": 2}', "duplicate key 'a'"),
-    (b'{"schema_version": "1.0", "x": NaN}', "NaN is not allowed"),
-    (b'{"schema_version": "1.0", "kind": "fieldbudget record"} trailing', "not valid JSON at line 1"),
+    (b'{"schema_version": "1.0", "x": NaN}', "NaN is not a number in JSON"),
+    (b'{"schema_version": "1.0", "kind": "fieldbudget record"} trailing', "is not valid JSON (line 1"),
 ])
 def test_damaged_files_are_refused_with_a_clear_message(tmp_path, content, words):
     p = _write(tmp_path, "bad.json", content)
@@ -227,8 +227,9 @@ def test_failed_write_part_way_leaves_the_old_file_byte_identical(saved, tmp_pat
             raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(atomic.os, "fdopen", lambda fd, mode: HalfWriter(real_fdopen(fd, mode)))
-    with pytest.raises(OSError, match="No space left"):
+    with pytest.raises(OutputError, match="No space left") as err:
         save_record(new, target)
+    assert err.value.path == str(target)  # the path given, never the temporary file
     assert target.read_bytes() == data
     assert sorted(p.name for p in tmp_path.iterdir()) == ["archive.json"]  # the temporary file is gone
 
@@ -242,9 +243,10 @@ def test_failed_rename_leaves_the_old_file_byte_identical(saved, tmp_path, monke
         raise OSError(5, "Input/output error")
 
     monkeypatch.setattr(atomic.os, "replace", boom)
-    with pytest.raises(OSError):
+    with pytest.raises(OutputError, match="Input/output error"):
         save_record(make_record(mixed_budget(), created_utc=STAMP), target)
     assert target.read_bytes() == data
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["archive.json"]
     assert load_record(target).operator == "R. Okafor"
 
 

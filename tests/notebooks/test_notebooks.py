@@ -31,7 +31,8 @@ PROBE = "import sys as _fb_sys; print('FB-KERNEL', _fb_sys.executable)"
 
 def test_there_are_notebooks_to_run():
     names = {p.relative_to(ROOT).as_posix() for p in NOTEBOOKS}
-    assert {"templates/nmr-reference-field.ipynb", "templates/teslameter-calibration.ipynb"} <= names
+    assert {"templates/nmr-reference-field.ipynb", "templates/teslameter-calibration.ipynb",
+            "templates/lab-dashboard.ipynb"} <= names
     assert any(n.startswith("examples/") for n in names)
 
 

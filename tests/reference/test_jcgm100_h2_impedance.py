@@ -17,8 +17,8 @@ I = [19.663e-3, 19.639e-3, 19.640e-3, 19.685e-3, 19.678e-3]
 PHI = [1.0456, 1.0438, 1.0468, 1.0428, 1.0433]
 
 
-def _budget() -> Budget:
-    return Budget(
+def _budget(readings_evaluation: str = "per_set") -> Budget:
+    return Budget(readings_evaluation=readings_evaluation,
         model=Model.from_expressions({"R": "V/I*cos(phi)", "X": "V/I*sin(phi)", "Z": "V/I"}),
         measurands=(Measurand("R", "ohm"), Measurand("X", "ohm"), Measurand("Z", "ohm")),
         inputs=(InputQuantity.from_readings("V", V, unit="V"), InputQuantity.from_readings("I", I, unit="A"),
@@ -59,10 +59,27 @@ def test_ignoring_the_correlations_gives_a_different_answer():
     assert round(evaluate(b)["R"].standard_uncertainty, 3) != 0.071
 
 
-def test_agrees_with_numpy_covariance_of_the_means():
-    # independent: numpy's covariance of the readings divided by n, propagated with hand derivatives
+def test_first_approach_agrees_with_numpy_covariance_of_the_means():
+    # H.2.3, first approach: numpy's covariance of the readings divided by n, propagated with hand derivatives
     data = np.array([V, I, PHI])
     cov = np.cov(data) / data.shape[1]
     v, i, p = data.mean(axis=1)
     J = np.array([[np.cos(p) / i, -v * np.cos(p) / i**2, -v * np.sin(p) / i]])
-    assert evaluate(_budget())["R"].standard_uncertainty == pytest.approx(float(np.sqrt((J @ cov @ J.T)[0, 0])), rel=1e-10)
+    r = evaluate(_budget("propagation"))["R"]
+    assert r.standard_uncertainty == pytest.approx(float(np.sqrt((J @ cov @ J.T)[0, 0])), rel=1e-10)
+    # one set of simultaneous readings: the generalised Welch-Satterthwaite gives exactly n - 1
+    assert r.dof_method == "welch_satterthwaite_correlated" and r.effective_dof == pytest.approx(4.0, rel=1e-9)
+
+
+def test_second_approach_is_the_default_and_agrees_with_numpy():
+    # H.2.4, second approach: R computed for each of the 5 sets, then mean and s/sqrt(5) with 4 degrees of freedom
+    Rk = np.array(V) / np.array(I) * np.cos(PHI)
+    res = evaluate(_budget())
+    r = res["R"]
+    assert r.dof_method == "type_a_per_set" and r.readings_sets == 5 and r.effective_dof == 4
+    assert r.estimate == pytest.approx(Rk.mean(), rel=1e-12)
+    assert r.standard_uncertainty == pytest.approx(Rk.std(ddof=1) / np.sqrt(5), rel=1e-10)
+    assert "second approach" in r.statement() and r.to_dict()["dof_method"] == "type_a_per_set"
+    # the outputs' covariance is that of the per-set values divided by n
+    Y = np.array([Rk, np.array(V) / np.array(I) * np.sin(PHI), np.array(V) / np.array(I)])
+    assert np.allclose(res.covariance, np.cov(Y) / 5, rtol=1e-10, atol=0)

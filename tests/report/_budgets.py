@@ -36,7 +36,7 @@ def mixed_budget() -> dict:
         "measurand": {"symbol": "K", "unit": "mT/A"},
         "inputs": {
             "a": {"value": 1.2, "u": 0.003, "unit": "mT/A", "source": "transfer probe cert. BFSL-H-771"},
-            "b": {"value": 0.75, "expanded": 0.004, "k": 2.0, "unit": "1", "source": "report BFSL-C-19, k = 2"},
+            "b": {"value": 0.75, "expanded": 0.004, "k": 2.0, "unit": "mT/A", "source": "report BFSL-C-19, k = 2"},
             "c": {"value": 1.1, "half_width": 0.02, "distribution": "rectangular", "unit": "1",
                   "source": "spec. sheet"},
             "d": {"value": 0.98, "half_width": 0.01, "distribution": "triangular", "unit": "1",

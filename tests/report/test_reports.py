@@ -180,7 +180,7 @@ def test_cli_record_verify_compare_report(tmp_path, capsys):
     b2["inputs"]["f"]["value"] = 63871230.0
     budget.write_text(json.dumps(b2), encoding="utf-8")
     rec2 = tmp_path / "em3.rev2.json"
-    assert _cli("record", str(budget), "-o", str(rec2), "--previous", str(rec)) == 0
+    assert _cli("record", str(budget), "-o", str(rec2), "--previous", str(rec), "--reason", "new counter") == 0
     assert "revision 2" in capsys.readouterr().out
     # tampered: verification fails with exit 1; damaged: a one-line error and exit 2
     doc = json.loads(rec.read_text(encoding="utf-8"))
