@@ -2,8 +2,7 @@
 
 The report formats are looked up at run time, so the bar offers only what
 exists in this installation.  Buttons size to their labels (nothing is cut
-off), and a file that already exists is overwritten only after a second click
-on the same button, which the status line asks for.
+off); an existing file is replaced only when the replace box is ticked.
 """
 
 from __future__ import annotations
@@ -67,7 +66,6 @@ class ExportBar(w.VBox):
         self.sign = sign
         self.folder = Path(folder)
         self.status = css(w.HTML(), "fb-status")
-        self._armed: tuple[str, Path] | None = None
         auto = {"layout": w.Layout(width="auto")}
         self.path = css(w.Text(value=f"{stem}.json", description="file name", continuous_update=False,
                                style={"description_width": "initial"},
@@ -110,17 +108,7 @@ class ExportBar(w.VBox):
         return check_output(path, force=bool(self.replace.value), what=what)
 
     def _done(self, path: Path) -> None:
-        self._armed = None
         self.status.value = f'<div class="fb-status-ok">saved {escape(path)}</div>'
-
-    def _may_write(self, action: str, path: Path) -> bool:
-        """False (and a question in the status line) the first time an existing file would be replaced."""
-        if not path.exists() or self._armed == (action, path):
-            return True
-        self._armed = (action, path)
-        self.status.value = status_html(f"{path} exists. Click the same button again to replace it, or change the "
-                                        "file name.", "note")
-        return False
 
     @guarded
     def _save(self, _button=None) -> None:
