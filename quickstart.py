@@ -1,12 +1,19 @@
 #!/usr/bin/env python3
 """Set up fieldbudget in ./.venv and run it.  Needs only Python 3.11+ and the package registries.
 
-    python3 quickstart.py lab      # demo report written headless, then JupyterLab on the demo procedure
-    python3 quickstart.py report   # only the headless demo: budget, record and reports into demo-output/
-    python3 quickstart.py test     # the whole test suite (what CI runs)
+usage: python3 quickstart.py {lab,report,test} [pytest options]
+
+    lab      write the demo budget, record and reports into demo-output/, then open JupyterLab on
+             workspace/: your copies of the templates (the shipped ones are never edited), the examples
+             and the demo output. Ctrl-C stops JupyterLab.
+    report   only the headless demo: budget, record and reports into demo-output/
+    test     the whole test suite (what CI runs); as root it installs Debian's chromium for the
+             browser tests first, and says so
 
 Each command creates ./.venv when it is missing and (re)installs the project
-into it when pyproject.toml has changed since the last install.
+into it when pyproject.toml has changed since the last install.  Afterwards
+the command line is .venv/bin/fieldbudget (or run `source .venv/bin/activate`
+once, then `fieldbudget ...`).
 """
 
 from __future__ import annotations
@@ -14,6 +21,7 @@ from __future__ import annotations
 import hashlib
 import os
 import shutil
+import signal
 import subprocess
 import sys
 from pathlib import Path
@@ -22,12 +30,15 @@ ROOT = Path(__file__).resolve().parent
 VENV = ROOT / ".venv"
 BIN = VENV / ("Scripts" if os.name == "nt" else "bin")
 PY = BIN / ("python.exe" if os.name == "nt" else "python")
-DEMO_NOTEBOOK = "templates/nmr-reference-field.ipynb"
+WORKSPACE = ROOT / "workspace"
+DEMO_OUT = ROOT / "demo-output"
+FIRST_NOTEBOOK = "templates/nmr-reference-field.ipynb"
+COMMANDS = ("lab", "report", "test")
 
 
-def _run(cmd: list[str], **kw) -> int:
+def _run(cmd: list, **kw) -> int:
     print("+", " ".join(str(c) for c in cmd), flush=True)
-    return subprocess.call([str(c) for c in cmd], cwd=ROOT, **kw)
+    return subprocess.call([str(c) for c in cmd], cwd=kw.pop("cwd", ROOT), **kw)
 
 
 def ensure_venv(extras: str) -> None:
@@ -53,24 +64,61 @@ def ensure_chromium() -> None:
     if os.name != "posix" or os.geteuid() != 0 or not shutil.which("apt-get"):
         print("note: chromium not found and cannot be installed here; the browser tests will be skipped", flush=True)
         return
+    print("Running as root without chromium: installing Debian's chromium package for the browser tests "
+          "(apt-get install --no-install-recommends chromium, a few hundred MB).", flush=True)
     env = dict(os.environ, DEBIAN_FRONTEND="noninteractive")
     _run(["apt-get", "update", "-qq"], env=env)
-    _run(["apt-get", "install", "-y", "-qq", "chromium"], env=env)
+    _run(["apt-get", "install", "-y", "-qq", "--no-install-recommends", "chromium"], env=env)
+
+
+def prepare_workspace() -> Path:
+    """workspace/ with copies of templates/ and examples/ (files already there are kept: they are the
+    user's) and demo-output/ reachable from it.  The shipped folders are only read."""
+    for name in ("templates", "examples"):
+        src = ROOT / name
+        for f in src.rglob("*"):
+            if f.is_file() and ".ipynb_checkpoints" not in f.parts and "__pycache__" not in f.parts:
+                dest = WORKSPACE / name / f.relative_to(src)
+                if not dest.exists():
+                    dest.parent.mkdir(parents=True, exist_ok=True)
+                    shutil.copy2(f, dest)
+    link = WORKSPACE / "demo-output"
+    if not link.exists() and not link.is_symlink():
+        try:
+            link.symlink_to(Path("..") / DEMO_OUT.name, target_is_directory=True)
+        except OSError:  # no symlinks here (e.g. Windows without the privilege): a copy instead
+            shutil.copytree(DEMO_OUT, link)
+    return WORKSPACE
 
 
 def cmd_report() -> int:
     ensure_venv("jupyter")
-    return _run([PY, "-m", "fieldbudget", "demo", "--out", "demo-output"])
+    return _run([PY, "-m", "fieldbudget", "demo", "--out", DEMO_OUT.name])
 
 
 def cmd_lab() -> int:
     rc = cmd_report()
     if rc != 0:
         return rc
-    args = [PY, "-m", "jupyterlab", DEMO_NOTEBOOK]
+    ws = prepare_workspace()
+    args = [PY, "-m", "jupyterlab", f"--ServerApp.root_dir={ws}", "--ServerApp.answer_yes=True", FIRST_NOTEBOOK]
     if os.name == "posix" and os.geteuid() == 0:
         args.append("--allow-root")
-    return _run(args)
+    print(f"JupyterLab on {ws} (your copies of the templates, the examples, the demo output). Ctrl-C stops it.",
+          flush=True)
+    print("+", " ".join(str(a) for a in args), flush=True)
+    proc = subprocess.Popen([str(a) for a in args], cwd=ws)
+    try:
+        return proc.wait()
+    except KeyboardInterrupt:
+        # JupyterLab got the same Ctrl-C and shuts down (answer_yes: no prompt); wait for it, quietly
+        try:
+            proc.wait(20)
+        except (subprocess.TimeoutExpired, KeyboardInterrupt):
+            proc.send_signal(signal.SIGTERM)
+            proc.wait()
+        print("\nJupyterLab stopped.", flush=True)
+        return 0
 
 
 def cmd_test(extra: list[str]) -> int:
@@ -80,8 +128,12 @@ def cmd_test(extra: list[str]) -> int:
 
 
 def main(argv: list[str]) -> int:
-    if not argv or argv[0] not in {"lab", "report", "test"}:
+    if argv and argv[0] in ("-h", "--help", "help"):
         print(__doc__)
+        return 0
+    if not argv or argv[0] not in COMMANDS:
+        got = f" (got {argv[0]!r})" if argv else ""
+        print(f"quickstart.py: the command must be one of {', '.join(COMMANDS)}{got}; see --help", file=sys.stderr)
         return 2
     if argv[0] == "lab":
         return cmd_lab()
@@ -91,4 +143,8 @@ def main(argv: list[str]) -> int:
 
 
 if __name__ == "__main__":
-    sys.exit(main(sys.argv[1:]))
+    try:
+        sys.exit(main(sys.argv[1:]))
+    except KeyboardInterrupt:  # Ctrl-C during the installs: stop without a traceback
+        print("\nstopped.", file=sys.stderr)
+        sys.exit(130)

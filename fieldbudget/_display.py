@@ -10,8 +10,8 @@ import html
 import math
 from collections.abc import Iterable, Sequence
 
-__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "group_digits", "html_table", "terminal_width", "text_table",
-           "html_block",
+__all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "fmt_u", "fmt_ppm", "fmt_value", "group_digits", "html_table",
+           "terminal_width", "text_table", "html_block", "pretty_unit", "pretty_symbol", "sensitivity_unit",
            "DOF_DISPLAY_LIMIT"]
 
 #: Effective degrees of freedom above this are shown as "> 1000" everywhere
@@ -106,6 +106,100 @@ def fmt_si(value: float, unit: str, u: float | None = None, *, digits: int = 6, 
     if group and "e" not in text:
         text = group_digits(text)
     return f"{text} {prefix}{unit}".strip()
+
+
+def fmt_u(u: float | None, unit: str) -> str:
+    """An uncertainty on its own: two significant digits with an SI prefix (``fmt_u(4.86e-06, "T") == "4.9 µT"``).
+
+    Two significant digits of an uncertainty is common practice (JCGM 100:2008, 7.2.6 allows "at most two").
+    """
+    if u is None:
+        return ""
+    if not math.isfinite(u) or u == 0:
+        return f"{fmt(u)} {pretty_unit(unit)}".strip()
+    return fmt_si(u, pretty_unit(unit), u)
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "\u207b\u2070\u00b9\u00b2\u00b3\u2074\u2075\u2076\u2077\u2078\u2079")
+
+
+def fmt_value(value: float | None, unit: str, u: float | None = None) -> str:
+    """A quantity's estimate for a table: :func:`fmt_si` when its unit takes a prefix, otherwise (a ratio,
+    1/K) a power of ten once the digits set by ``u`` would need more than five decimals:
+    ``fmt_value(2.1e-09, "", 5e-10) == "2.10×10⁻⁹"``.
+    """
+    nice = pretty_unit(unit)
+    if value is None or not math.isfinite(value) or unit in PREFIXABLE_UNITS:
+        return fmt_si(value, nice, u)
+    if value == 0 and u:
+        return f"0 {nice}".strip()
+    ref = max(abs(value), abs(u or 0.0))
+    if ref == 0 or ref >= 1e-3:
+        return fmt_si(value, nice, u)
+    e = math.floor(math.log10(ref))
+    decimals = max(0, e - math.floor(math.log10(u)) + 1) if u else 3
+    text = f"{value / 10 ** e:.{decimals}f}\u00d710{str(e).translate(_SUPERSCRIPT)}"
+    return f"{text} {nice}".strip()
+
+
+def fmt_ppm(x: float | None, u: float | None = None) -> str:
+    """A relative quantity in parts per million (``fmt_ppm(4.2e-7) == "0.42 ppm"``), digits set by ``u``."""
+    if x is None or not math.isfinite(x):
+        return fmt(x)
+    v = x * 1e6
+    if u is not None and u > 0:
+        decimals = max(0, 1 - math.floor(math.log10(u * 1e6)))
+        return f"{v:.{decimals}f} ppm"
+    return f"{v:.3g} ppm"
+
+
+_UNIT_WORDS = (("degC", "\u00b0C"), ("deg", "\u00b0"), ("ohm", "\u03a9"), ("uT", "\u00b5T"), ("um", "\u00b5m"),
+               ("us", "\u00b5s"), ("uV", "\u00b5V"), ("uA", "\u00b5A"), ("^-1", "\u207b\u00b9"),
+               ("^2", "\u00b2"), ("^3", "\u00b3"), ("**2", "\u00b2"), ("*", "\u00b7"))
+
+
+def pretty_unit(unit: str | None) -> str:
+    """A unit as the eye reads it: ``degC`` -> °C, ``uT`` -> µT, ``ohm`` -> Ω, ``m^2`` -> m², ``1`` -> ''."""
+    if not unit or unit.strip() == "1":
+        return ""
+    out = unit.strip()
+    for plain, nice in _UNIT_WORDS:
+        if plain == "deg" and "\u00b0C" in out:
+            continue
+        out = out.replace(plain, nice)
+    return out
+
+
+_GREEK = {"alpha": "\u03b1", "beta": "\u03b2", "gamma": "\u03b3", "delta": "\u03b4", "theta": "\u03b8",
+          "chi": "\u03c7", "sigma": "\u03c3", "nu": "\u03bd", "mu": "\u03bc", "tau": "\u03c4",
+          "omega": "\u03c9", "phi": "\u03c6", "rho": "\u03c1", "lambda": "\u03bb", "eta": "\u03b7"}
+
+
+def pretty_symbol(symbol: str) -> str:
+    """A model symbol for screens and reports, as HTML: greek names as letters, ``_sh`` (shielded) as a
+    prime, the rest after the first ``_`` as a subscript: ``gamma_p_sh`` -> γ′<sub>p</sub>.
+
+    The plain symbol stays the key everywhere else (files, records, the model expression).
+    """
+    parts = symbol.split("_")
+    prime = ""
+    if len(parts) > 1 and parts[-1] == "sh":
+        parts, prime = parts[:-1], "\u2032"
+    head = _GREEK.get(parts[0], parts[0])
+    sub = "_".join(parts[1:])
+    return escape(head) + prime + (f"<sub>{escape(sub)}</sub>" if sub else "")
+
+
+def sensitivity_unit(output_unit: str | None, input_unit: str | None) -> str:
+    """The unit of a sensitivity coefficient c = dy/dx: output unit per input unit (JCGM 100:2008, 5.1.3)."""
+    out, inp = pretty_unit(output_unit), pretty_unit(input_unit)
+    if out == inp:
+        return ""
+    if not inp:
+        return out
+    if "/" in inp or "\u00b7" in inp or " " in inp:
+        inp = f"({inp})"
+    return f"{out or '1'}/{inp}"
 
 
 def html_table(

@@ -35,3 +35,22 @@ def test_fmt_si_round_trips_within_u(value, rel_u):
     number, unit = text.split(" ")
     scale = {"GT": 1e9, "MT": 1e6, "kT": 1e3, "T": 1.0, "mT": 1e-3, "\u00b5T": 1e-6, "nT": 1e-9, "pT": 1e-12}[unit]
     assert abs(float(number) * scale - value) <= u / 10 + 1e-12 * value
+
+
+def test_units_and_symbols_in_unicode():
+    from fieldbudget._display import pretty_symbol, pretty_unit, sensitivity_unit
+
+    assert pretty_unit("degC") == "\u00b0C" and pretty_unit("uT") == "\u00b5T" and pretty_unit("1") == ""
+    assert pretty_symbol("gamma_p_sh") == "\u03b3\u2032<sub>p</sub>"   # shielded proton: gamma'_p (CODATA)
+    # c = dy/dx carries unit(y)/unit(x) (JCGM 100:2008, 5.1.3)
+    assert sensitivity_unit("T", "Hz") == "T/Hz" and sensitivity_unit("T", "MHz/T") == "T/(MHz/T)"
+    assert sensitivity_unit("T", "T") == "" and sensitivity_unit("T", "") == "T"
+
+
+def test_values_without_a_prefix_use_a_power_of_ten():
+    from fieldbudget._display import fmt_ppm, fmt_u, fmt_value
+
+    assert fmt_value(2.1e-09, "", 5e-10) == "2.10\u00d710\u207b\u2079"   # digits set by u (common practice)
+    assert fmt_value(0.0, "", 1.85e-9) == "0"
+    assert fmt_u(4.86e-06, "T") == "4.9 \u00b5T"                        # two digits of u (JCGM 100:2008, 7.2.6)
+    assert fmt_ppm(4.2e-7) == "0.42 ppm"

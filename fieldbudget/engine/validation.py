@@ -121,12 +121,16 @@ class ValidationResult:
                 f"d_high = {_display.fmt(self.d_high, 3)}, delta = {_display.fmt(self.delta, 3)}"
                 f"{' ' + self.unit if self.unit else ''})")
 
+    def _span(self, ends: tuple[float, float]) -> str:
+        """An interval's ends to the decimal of the tolerance delta, so that they differ where they should."""
+        u = self.delta if self.delta > 0 and math.isfinite(self.delta) else None
+        return f"{_display.fmt_si(ends[0], self.unit, u)} to {_display.fmt_si(ends[1], self.unit, u)}"
+
     def _repr_html_(self) -> str:
         unit = self.unit
         rows = [
-            ("GUM interval y ± U", f"[{_display.fmt(self.gum_interval[0])}, {_display.fmt(self.gum_interval[1])}]", unit),
-            (f"Monte Carlo interval ({self.interval_kind})",
-             f"[{_display.fmt(self.mc_interval[0])}, {_display.fmt(self.mc_interval[1])}]", unit),
+            ("GUM interval y ± U", self._span(self.gum_interval), ""),
+            (f"Monte Carlo interval ({self.interval_kind})", self._span(self.mc_interval), ""),
             ("d_low", _display.fmt(self.d_low, 3), unit),
             ("d_high", _display.fmt(self.d_high, 3), unit),
             (f"tolerance δ ({self.significant_digits} significant digit{'s' if self.significant_digits != 1 else ''})",

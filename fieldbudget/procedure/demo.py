@@ -1,8 +1,8 @@
 """The demo scenario, headless: the NMR procedure run with the invented lab's data.
 
 The fictional Larkspur Magnetics Calibration Laboratory measures the field of
-its electromagnet EM-250 s/n EM-0417 with proton probe PX-3 s/n PX3-2291 and
-counter FC-9 s/n FC9-30118 (all invented).  Copies of the demo's inputs ship
+its electromagnet DEMO-EM-250 s/n EM-0417 with proton probe DEMO-PX-3 s/n PX3-2291 and
+counter DEMO-FC-9 s/n FC9-30118 (all invented).  Copies of the demo's inputs ship
 inside the package (``data/demo/``: the NMR procedure file and the counter
 readings), so ``fieldbudget demo`` works from an installed package too; a test
 checks that they equal ``templates/nmr-reference-field.toml`` and the file in

@@ -172,6 +172,7 @@ class Step:
     instruction: str
     components: tuple[str, ...] = ()
     cautions: tuple[str, ...] = ()
+    training: str = ""  # what a trainee should understand in this step (shown in training mode)
 
     def __repr__(self) -> str:
         return f"<Step {self.id!r}: {self.title} ({len(self.components)} components)>"
@@ -182,7 +183,7 @@ class Step:
 
     def to_dict(self) -> dict:
         return {"id": self.id, "title": self.title, "instruction": self.instruction,
-                "components": list(self.components), "cautions": list(self.cautions)}
+                "components": list(self.components), "cautions": list(self.cautions), "training": self.training}
 
 
 @dataclass(frozen=True)
@@ -520,7 +521,7 @@ def procedure_from_dict(data: dict, where: str = "procedure") -> Procedure:
                 _fail(where, ["steps", i, "cautions", j],
                       f"must name a [[safety]] entry ({', '.join(safety_ids) or 'none defined'}) (got {sid!r})")
         steps.append(Step(s["id"], s["title"], s["instruction"], tuple(s.get("components", ())),
-                          tuple(s.get("cautions", ()))))
+                          tuple(s.get("cautions", ())), s.get("training", "")))
     for comp in components:
         if not comp.fixed and comp.id not in seen_in:
             _fail(where, ["components", comp.id],

@@ -15,7 +15,7 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
@@ -163,6 +163,7 @@ class AcceptanceReport:
 
     procedure_id: str
     verdicts: tuple[LimitVerdict, ...]
+    procedure: Any = field(default=None, repr=False, compare=False)  # for labels and units in _repr_html_
 
     @property
     def accepted(self) -> bool | None:
@@ -187,6 +188,10 @@ class AcceptanceReport:
                 "limits": [v.to_dict() for v in self.verdicts]}
 
     def _repr_html_(self) -> str:
+        if self.procedure is not None:
+            from .acceptance_html import acceptance_html
+
+            return f'<div class="fb-proc-acceptance">{acceptance_html(self, self.procedure)}</div>'
         rows = [(v.limit.text, v.limit.describe(), _display.fmt(v.value) or "-", v.verdict) for v in self.verdicts]
         word = {True: "Accepted: every limit is met", False: "Not accepted: a limit is not met",
                 None: "Incomplete: some limits cannot be judged yet"}[self.accepted]
@@ -620,7 +625,7 @@ class ProcedureRun:
                 continue
             ok = (lim.minimum is None or x >= lim.minimum) and (lim.maximum is None or x <= lim.maximum)
             verdicts.append(LimitVerdict(lim, x, ok))
-        return AcceptanceReport(self.procedure.id, tuple(verdicts))
+        return AcceptanceReport(self.procedure.id, tuple(verdicts), self.procedure)
 
     # ------------------------------------------------------------ display
     def to_dict(self) -> dict:

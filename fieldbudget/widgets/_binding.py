@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import functools
 import logging
+import re
 from collections.abc import Callable
 
 import ipywidgets as w
@@ -19,7 +20,15 @@ from .._display import escape
 from ..drafts.field import Field, message_for
 from ..errors import FieldbudgetError
 
-__all__ = ["BoundText", "css", "guarded", "message_html", "status_html"]
+__all__ = ["BoundText", "css", "guarded", "message_html", "status_html", "user_words", "LAST_GOOD"]
+
+#: Said beside a refused entry while a budget is on screen.
+LAST_GOOD = "The budget shown is the last good one."
+
+# "file.json, at #/frequency/readings_Hz: " or "procedure values, at #/a/b: " in front of a message
+_WHERE = re.compile(r"^(?:[^:]*?, )?at #/[^\s:]*: ")
+# "sample.u_temperature_C must be ..." -> "must be ..." (the field's own label stands beside it)
+_KEY = re.compile(r"^[A-Za-z_][\w.\[\]]*(?: \[\d+\])? (must |is |has )")
 
 log = logging.getLogger("fieldbudget.widgets")
 
@@ -31,8 +40,24 @@ def css(widget: w.Widget, *classes: str) -> w.Widget:
     return widget
 
 
-def message_html(text: str | None) -> str:
-    return f'<span class="fb-msg-text">{escape(text)}</span>' if text else ""
+def user_words(text: str | None, label: str = "") -> str:
+    """A message in the user's words: no JSON pointer or key path; ``label`` (the field's label) instead."""
+    if not text:
+        return ""
+    out = _WHERE.sub("", str(text).strip())
+    m = _KEY.match(out)
+    if m:
+        out = (f"{label} " if label else "") + out[m.start(1):]
+    return out[:1].upper() + out[1:] if label else out
+
+
+def message_html(text: str | None, *, last_good: bool = False) -> str:
+    """The message under an entry (``fb-msg-text``); ``last_good`` adds that the budget shown is the last good one."""
+    if not text:
+        return ""
+    tail = f' <span class="fb-msg-last-good">{escape(LAST_GOOD)}</span>' if last_good else ""
+    return f'<span class="fb-msg-text">{escape(user_words(text))}{tail}</span>'
+
 
 
 def status_html(text: str | None, kind: str = "error") -> str:
@@ -89,7 +114,7 @@ class BoundText:
         if not self._syncing:
             self._on_text(change["new"])
 
-    def sync(self, field: Field | None = None) -> None:
+    def sync(self, field: Field | None = None, *, last_good: bool = False) -> None:
         """Show the field's text and message (a new field replaces the bound one)."""
         if field is not None:
             self.field = field
@@ -97,7 +122,7 @@ class BoundText:
         try:
             if self.box.value != self.field.text:
                 self.box.value = self.field.text
-            m = message_html(self.field.error)
+            m = message_html(self.field.error, last_good=last_good)
             if self.msg.value != m:
                 self.msg.value = m
             if self.field.error:

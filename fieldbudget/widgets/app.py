@@ -24,6 +24,7 @@ from ..drafts.budget_draft import BudgetDraft
 from ..drafts.mc_job import MonteCarloJob
 from ..drafts.nmr_draft import NMRDraft
 from ._binding import css
+from ._style import style_widget
 from .budget_view import BudgetView
 from .export_bar import ExportBar
 from .input_editor import InputEditor
@@ -55,14 +56,14 @@ class App(w.VBox):
         self.monte_carlo = MonteCarloPanel(draft, MonteCarloJob(trials=trials, seed=seed)) if monte_carlo else None
         self.export = ExportBar(draft, folder=folder, job=self.monte_carlo.job if self.monte_carlo else None) \
             if export else None
-        head = [w.HTML(f"<h3>{escape(title)}</h3>")] if title else []
-        parts = [*head, css(w.VBox([w.HTML("<h4>inputs</h4>"), form]), "fb-app-inputs"),
-                 css(w.VBox([w.HTML("<h4>budget</h4>"), self.view]), "fb-app-budget")]
+        head = [style_widget()] + ([w.HTML(f"<h3>{escape(title)}</h3>")] if title else [])
+        parts = [*head, css(w.VBox([w.HTML("<h4>Inputs</h4>"), form]), "fb-app-inputs"),
+                 css(w.VBox([w.HTML("<h4>Result and its budget</h4>"), self.view]), "fb-app-budget")]
         if self.monte_carlo is not None:
             parts.append(css(w.VBox([w.HTML("<h4>Monte Carlo check (JCGM 101)</h4>"), self.monte_carlo]),
                              "fb-app-mc"))
         if self.export is not None:
-            parts.append(css(w.VBox([w.HTML("<h4>save</h4>"), self.export]), "fb-app-export"))
+            parts.append(css(w.VBox([w.HTML("<h4>Save</h4>"), self.export]), "fb-app-export"))
         self.children = parts
         css(self, "fb-app")
         _LIVE[id(draft)] = self

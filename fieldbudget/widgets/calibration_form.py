@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import ipywidgets as w
 
-from .._display import escape, fmt
+from .._display import escape, fmt, fmt_si
 from ..drafts.calibration_draft import CalibrationDraft
 from ._binding import BoundText, css, guarded, message_html, status_html
 from .budget_view import format_u
+from .screens import verdict_word
 
 __all__ = ["CalibrationForm", "calibration_results_html", "curve_html"]
 
@@ -42,16 +43,19 @@ def calibration_results_html(draft: CalibrationDraft) -> str:
     if res is None:
         return ""
     conf = draft.conformity
-    head = ["point", "indication", "reference", "error E", "U(E)", "k"] + (["conformity", "p_c"] if conf else [])
+    head = ["point", "indication", "reference", "error E", "U(E)", "k"] + (["decision", "p of conformity"] if conf else [])
     rows = []
     for i, p in enumerate(res.points):
-        cells = [p.name, f"{fmt(p.indication, 8)} T", f"{fmt(p.reference, 9)} T", format_u(p.error, "T"),
-                 format_u(p.expanded_uncertainty, "T"), fmt(p.coverage_factor, 3)]
+        U = p.expanded_uncertainty
+        cells = [escape(x) for x in (p.name, fmt_si(p.indication, "T", digits=8),
+                                     fmt_si(p.reference, "T", p.u_error / 10 if p.u_error else None),
+                                     fmt_si(p.error, "T", U / 2 if U else None), format_u(U, "T"),
+                                     f"{p.coverage_factor:.2f}")]
         if conf:
             c = conf[i]
-            cells += ["conforms" if c.accepted else "does not conform", f"{100 * c.probability_of_conformity:.1f} %"]
+            cells += [verdict_word(bool(c.accepted)), escape(f"{100 * c.probability_of_conformity:.1f} %")]
         cls = ' class="fb-cal-selected"' if i == draft.selected else ""
-        rows.append(f"<tr{cls}>" + "".join(f"<td>{escape(x)}</td>" for x in cells) + "</tr>")
+        rows.append(f"<tr{cls}>" + "".join(f"<td>{x}</td>" for x in cells) + "</tr>")
     warn = "".join(f'<div class="fb-warning">{escape(x)}</div>' for x in res.warnings)
     return (f'<table class="fb-table fb-cal-results"><thead><tr>{"".join(f"<th>{escape(h)}</th>" for h in head)}'
             f'</tr></thead><tbody>{"".join(rows)}</tbody></table><div>{escape(res.propagation)}</div>{warn}')
@@ -143,9 +147,10 @@ class CalibrationForm(w.VBox):
                                                        for r, p in zip(self._rows, d.points)):
                 self._rows = [_PointRow(self, i) for i in range(len(d.points))]
                 self.points_box.children = [r.widget for r in self._rows]
+            shown = d.calibration is not None
             for r in self._rows:
                 for bt in r.texts.values():
-                    bt.sync()
+                    bt.sync(last_good=shown)
             for key, part in self.settings.items():
                 if isinstance(part, BoundText):
                     part.sync()

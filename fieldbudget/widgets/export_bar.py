@@ -1,7 +1,8 @@
 """Export buttons: save the budget file, and write a report in each format the report layer offers.
 
 The report formats are looked up at run time, so the bar offers only what
-exists in this installation.
+exists in this installation.  Buttons size to their labels (nothing is cut
+off); an existing file is replaced only when the replace box is ticked.
 """
 
 from __future__ import annotations
@@ -78,22 +79,26 @@ class ExportBar(w.VBox):
         self.sign = sign
         self.folder = Path(folder)
         self.status = css(w.HTML(), "fb-status")
-        self.path = css(w.Text(value=f"{stem}.json", description="budget file", continuous_update=False,
-                               style={"description_width": "initial"}, layout=w.Layout(width="24em")),
+        auto = {"layout": w.Layout(width="auto")}
+        self.path = css(w.Text(value=f"{stem}.json", description="file name", continuous_update=False,
+                               style={"description_width": "initial"},
+                               layout=w.Layout(width=f"{max(24, 0.62 * len(stem) + 14):.0f}em")),
                         "fb-export-path")
-        self.save_button = css(w.Button(description="save budget file", icon="save"), "fb-export-budget")
+        self.save_button = css(w.Button(description="save budget file", icon="save", **auto), "fb-export-budget")
         self.save_button.on_click(self._save)
         row = [self.path, self.save_button]
         if callable(getattr(draft, "save_measurement", None)):
-            self.measurement_button = css(w.Button(description="save measurement file"), "fb-export-measurement")
+            self.measurement_button = css(w.Button(description="save measurement file", icon="save", **auto),
+                                          "fb-export-measurement")
             self.measurement_button.on_click(self._save_measurement)
             row.append(self.measurement_button)
         self.writers = report_writers()
-        self.report_format = css(w.Dropdown(options=self.writers, description="report",
-                                            layout=w.Layout(width="14em")), "fb-export-format")
-        self.report_button = css(w.Button(description="write report", icon="file"), "fb-export-report")
+        self.report_format = css(w.Dropdown(options=self.writers, description="report format",
+                                            style={"description_width": "initial"},
+                                            layout=w.Layout(width="16em")), "fb-export-format")
+        self.report_button = css(w.Button(description="write report", icon="file", **auto), "fb-export-report")
         self.report_button.on_click(self._report)
-        self.record_button = css(w.Button(description="save record", icon="archive",
+        self.record_button = css(w.Button(description="save record", icon="archive", **auto,
                                           tooltip="hash-stamped record an assessor can re-check"), "fb-export-record")
         self.record_button.on_click(self._save_record)
         self.replace = css(w.Checkbox(value=False, description="replace existing files (never a record)",

@@ -57,10 +57,10 @@ class _RowView:
         self.widget = css(w.VBox([self.main, t["readings"].widget]), "fb-input")
         self.sync()
 
-    def sync(self) -> None:
+    def sync(self, last_good: bool = False) -> None:
         f = self.row.fields
         for bt in self.texts.values():
-            bt.sync()
+            bt.sync(last_good=last_good)
         self._syncing = True
         try:
             for dd, key, msg in ((self.dist, "distribution", self.dist_msg),
@@ -156,8 +156,9 @@ class InputEditor(w.VBox):
                 self._layout_key = key
             for bt in (self.model, self.measurand, self.measurand_unit, *self._corr_views):
                 bt.sync()
+            shown = d.result is not None
             for rv in self._row_views.values():
-                rv.sync()
+                rv.sync(shown)
             self.status.value = status_html(d.general_error)
 
     def _rebuild_layout(self) -> None:

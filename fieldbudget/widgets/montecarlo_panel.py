@@ -13,7 +13,7 @@ from typing import Any
 
 import ipywidgets as w
 
-from .._display import escape, fmt
+from .._display import escape, fmt, fmt_si, fmt_u
 from ..drafts.mc_job import MonteCarloJob
 from ._binding import BoundText, css, guarded, status_html
 from .budget_view import format_u
@@ -21,39 +21,40 @@ from .budget_view import format_u
 __all__ = ["MonteCarloPanel", "intervals_html", "verdict_html"]
 
 
-def _decimals(U: float) -> int:
-    """Decimals that show two significant digits of the interval's width (common practice)."""
-    return max(0, 1 - math.floor(math.log10(U))) if U > 0 and math.isfinite(U) else 6
-
-
 def intervals_html(mc: Any, gum: Any) -> str:
+    """The coverage intervals, each end to two significant digits of the interval's half-width."""
     unit = getattr(mc, "unit", "") or ""
-    nd = _decimals(abs(mc.interval[1] - mc.interval[0]) / 2)
+    half = abs(mc.interval[1] - mc.interval[0]) / 2
+    u = half if half > 0 and math.isfinite(half) else None
     p = 100 * mc.coverage_probability
     rows = [("Monte Carlo, probabilistically symmetric", *mc.interval),
             ("Monte Carlo, shortest", *mc.shortest_interval)]
     if gum is not None:
         rows.append((f"GUM, y \u00b1 U (k = {fmt(gum.coverage_factor, 3)})",
                      gum.estimate - gum.expanded_uncertainty, gum.estimate + gum.expanded_uncertainty))
-    body = "".join(f"<tr><td>{escape(n)}</td><td>{lo:.{nd}f}</td><td>{hi:.{nd}f}</td></tr>" for n, lo, hi in rows)
+    body = "".join(f'<tr><td>{escape(n)}</td><td class="fb-num">{escape(fmt_si(lo, unit, u))}</td>'
+                   f'<td class="fb-num">{escape(fmt_si(hi, unit, u))}</td></tr>' for n, lo, hi in rows)
+    trials = f"{mc.trials:,}".replace(",", "\u2009")
     return (f'<table class="fb-table fb-mc-intervals"><thead><tr><th>{escape(f"{p:.4g} % coverage interval")}'
-            f'</th><th>low / {escape(unit)}</th><th>high / {escape(unit)}</th></tr></thead><tbody>{body}'
+            f"</th><th>low end</th><th>high end</th></tr></thead><tbody>{body}"
             f'</tbody></table><div class="fb-mc-u">Monte Carlo: {escape(getattr(mc, "output", "y"))} = '
-            f'{mc.estimate:.{nd}f} {escape(unit)},'
-            f" u(y) = {escape(format_u(mc.standard_uncertainty, unit))}, M = {mc.trials}, seed {mc.seed}</div>")
+            f"{escape(fmt_si(mc.estimate, unit, mc.standard_uncertainty))}, "
+            f"u = {escape(format_u(mc.standard_uncertainty, unit))}, M = {escape(trials)} trials, seed {mc.seed}</div>")
 
 
 def verdict_html(v: Any) -> str:
-    """The JCGM 101:2008 clause 8 comparison: passed or not, with delta, d_low and d_high."""
+    """The JCGM 101:2008 clause 8 comparison: validated or not validated, with delta, d_low and d_high."""
     if v is None:
         return ""
-    ok = bool(v.passed)
-    head = ("GUM framework validated by Monte Carlo" if ok else
-            "GUM framework NOT validated by Monte Carlo")
+    ok = v.passed
+    word = {True: "validated", False: "not validated", None: "undecided"}[None if ok is None else bool(ok)]
+    cls = {True: "fb-verdict-pass", False: "fb-verdict-fail", None: "fb-verdict-open"}[None if ok is None else bool(ok)]
+    unit = getattr(v, "unit", "") or ""
     advice = getattr(v, "advice", "") or ""
-    return (f'<div class="fb-mc-verdict-{"pass" if ok else "fail"}"><b>{escape(head)}</b>: '
-            f"d<sub>low</sub> = {escape(fmt(v.d_low, 3))}, d<sub>high</sub> = {escape(fmt(v.d_high, 3))}, "
-            f"tolerance \u03b4 = {escape(fmt(v.delta, 3))} (JCGM 101:2008, 8.2)"
+    return (f'<div class="fb-verdict-banner {cls} fb-mc-verdict-{"pass" if ok else "fail"}">'
+            f'GUM result <span class="fb-verdict {cls}">{word}</span> by Monte Carlo: '
+            f"d<sub>low</sub> = {escape(fmt_u(abs(v.d_low), unit))}, d<sub>high</sub> = {escape(fmt_u(abs(v.d_high), unit))}, "
+            f"tolerance \u03b4 = {escape(fmt_u(v.delta, unit))} (JCGM 101:2008, 8.2)"
             + (f"<br/>{escape(advice)}" if advice else "") + "</div>")
 
 
@@ -73,11 +74,13 @@ class MonteCarloPanel(w.VBox):
         self.draft = draft
         self.job = job or MonteCarloJob()
         self.status = css(w.HTML(), "fb-status")
-        self.trials = BoundText(self.job.trials, self._set_trials, width="10em", key="trials",
+        self.trials = BoundText(self.job.trials, self._set_trials, width="16em", key="trials",
                                 description="trials M")
-        self.seed = BoundText(self.job.seed, self._set_seed, width="8em", key="seed", description="seed")
-        self.run_button = css(w.Button(description="run Monte Carlo", button_style="primary"), "fb-mc-run")
-        self.cancel_button = css(w.Button(description="Cancel", disabled=True), "fb-mc-cancel")
+        self.seed = BoundText(self.job.seed, self._set_seed, width="14em", key="seed", description="seed")
+        self.run_button = css(w.Button(description="run Monte Carlo", button_style="primary",
+                                       layout=w.Layout(width="auto")), "fb-mc-run")
+        self.cancel_button = css(w.Button(description="Cancel", disabled=True, layout=w.Layout(width="auto")),
+                                 "fb-mc-cancel")
         self.run_button.on_click(self._run)
         self.cancel_button.on_click(self._cancel)
         self.progress = css(w.FloatProgress(value=0.0, min=0.0, max=1.0, description="0 %"), "fb-mc-progress")
@@ -143,7 +146,8 @@ class MonteCarloPanel(w.VBox):
         if self.histogram.layout.display != "none":
             from .. import plots
 
-            self.histogram.value = plots.img_html(plots.mc_histogram(j.result, j.gum), "fb-mc-hist-img")
+            self.histogram.value = plots.img_html(plots.mc_histogram(j.result, j.gum), "fb-mc-hist-img",
+                                                  alt="histogram of the Monte Carlo trials with the intervals")
         self.intervals.value = intervals_html(j.result, j.gum)
         self.verdict.value = verdict_html(j.validation)
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import ipywidgets as w
 
-from .._display import escape
+from .._display import escape, pretty_unit
 from ..drafts.nmr_draft import FieldSpec, NMRDraft
 from ._binding import BoundText, css, guarded, message_html, status_html
 
@@ -36,12 +36,12 @@ class _ChoiceBox:
         self._syncing = False
         self.box.observe(lambda ch: self._syncing or form._set(spec.path, ch["new"]), names="value")
 
-    def sync(self) -> None:
+    def sync(self, last_good: bool = False) -> None:
         self._syncing = True
         try:
             if self.box.value != self.field.text and self.field.text in self.box.options:
                 self.box.value = self.field.text
-            self.msg.value = message_html(self.field.error)
+            self.msg.value = message_html(self.field.error, last_good=last_good)
         finally:
             self._syncing = False
 
@@ -72,19 +72,20 @@ class NMRForm(w.VBox):
         self.render()
 
     def _row(self, spec: FieldSpec) -> w.Widget:
-        label = spec.label + (f" / {spec.unit}" if spec.unit else "")
+        label = spec.label + (f" / {pretty_unit(spec.unit)}" if pretty_unit(spec.unit) else "")
         options = self.draft.choices.get(spec.path, spec.choices)
         if spec.kind in ("choice", "edition") and options:
             box = _ChoiceBox(self, spec, tuple(str(o) for o in options))
         else:
             box = BoundText(self.draft.fields[spec.path], lambda t, p=spec.path: self._set(p, t),
                             width="22em" if spec.kind == "numbers" else "16em", key=_css_key(spec.path),
-                            area=spec.path == "frequency.readings_Hz", placeholder=spec.help[:60])
+                            area=spec.path == "frequency.readings_Hz", tooltip=spec.help)
         self.boxes[spec.path] = box
         warn = css(w.HTML(layout=w.Layout(max_width="36em")), "fb-field-warning",
                    f"fb-warning-{_css_key(spec.path)}")
         self.warnings[spec.path] = warn
-        lab = w.HTML(f'<span title="{escape(spec.help)}">{escape(label)}</span>', layout=w.Layout(width="18em"))
+        lab = w.HTML(f'<div class="fb-nmr-label" title="{escape(spec.help)}">{escape(label)}</div>',
+                     layout=w.Layout(width="18em", min_width="18em"))
         return css(w.HBox([lab, box.widget, warn]), "fb-nmr-row", f"fb-row-{_css_key(spec.path)}")
 
     def _upload_row(self) -> w.Widget:
@@ -108,8 +109,9 @@ class NMRForm(w.VBox):
     def render(self) -> None:
         d = self.draft
         with self.hold_sync():
+            shown = d.result is not None
             for path, box in self.boxes.items():
-                box.sync()
+                box.sync(last_good=shown)
                 texts = d.warnings_by_field.get(path, ())
                 html = "".join(f'<div class="fb-warning">{escape(t)}</div>' for t in texts)
                 if self.warnings[path].value != html:

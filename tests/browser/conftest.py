@@ -159,7 +159,7 @@ def browser_context(chromium):
 
     with sync_playwright() as p, tempfile.TemporaryDirectory() as profile:
         ctx = p.chromium.launch_persistent_context(profile, executable_path=chromium, headless=True, args=ARGS,
-                                                   viewport={"width": 1400, "height": 1000})
+                                                   viewport={"width": 1280, "height": 800})
         try:
             yield ctx
         finally:

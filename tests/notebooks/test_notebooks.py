@@ -80,3 +80,16 @@ def test_notebook_runs_without_errors(path, tmp_path, monkeypatch):
     probe = "".join(o.get("text", "") for o in nb.cells[-1].outputs if o.get("output_type") == "stream")
     assert probe.split() == ["FB-KERNEL", sys.executable], probe
     assert path.read_bytes() == before   # the repository copy is untouched
+
+
+def test_a_figure_shows_as_an_image_in_a_fresh_kernel(tmp_path, monkeypatch):
+    # A bare matplotlib Figure prints "<Figure size ...>" unless a formatter is registered; importing
+    # fieldbudget.plots registers one, for its own figures and for any function that returns a Figure.
+    monkeypatch.setenv("JUPYTER_RUNTIME_DIR", str(tmp_path / "jupyter-runtime"))
+    nb = nbformat.v4.new_notebook()
+    nb.cells = [nbformat.v4.new_code_cell("from fieldbudget import plots\nfrom matplotlib.figure import Figure\n"
+                                          "fig = Figure(figsize=(3, 2))\nfig.add_subplot().plot([0, 1], [1, 0])\nfig")]
+    nbclient.NotebookClient(nb, timeout=120, kernel_name="python3",
+                            resources={"metadata": {"path": str(tmp_path)}}).execute()
+    data = nb.cells[0].outputs[0]["data"]
+    assert "image/png" in data and data["image/png"]

@@ -31,7 +31,7 @@ def test_measurement_dict_equals_hand_written(run):
         "frequency": {"readings_Hz": READINGS, "counter_resolution_Hz": 0.01},
         "timebase": {"offset": 2.1e-9, "u": 5.0e-10, "ageing_per_day": 3.0e-11,
                      "days_since_calibration": 140.0,
-                     "source": "OCXO s/n OX-55031 in counter FC-9 s/n FC9-30118, certificate "
+                     "source": "OCXO s/n OX-55031 in counter DEMO-FC-9 s/n FC9-30118, certificate "
                                "LMCL-FS-2026-0712 of 2026-08-04 (invented)"},
         "sample": {"temperature_C": 23.1, "u_temperature_C": 0.3, "shape": "sphere"},
         "line": {"fwhm_Hz": 8.0, "snr": 60.0, "points_per_fwhm": 10.0},
@@ -40,7 +40,7 @@ def test_measurement_dict_equals_hand_written(run):
         "offset_m": 0.0,
         "u_offset_m": 2.0e-4,
         "probe_perturbation": {"value": 0.0, "u": 1.0e-8,
-                               "source": "Probe PX-3 s/n PX3-2291, characterisation LMCL-PC-2025-031 (invented)"},
+                               "source": "Probe DEMO-PX-3 s/n PX3-2291, characterisation LMCL-PC-2025-031 (invented)"},
     }
     assert run.measurement_dict() == expected
     assert json.loads(json.dumps(run.measurement_dict())) == expected
@@ -189,7 +189,8 @@ def test_report_overall(run):
     assert bad.accepted is False and [v.limit.id for v in bad.failures] == ["warnings"]
     assert repr(bad) == "<AcceptanceReport 'nmr-reference-field': REJECTED, 4/5 limits met>"
     html = bad._repr_html_()
-    assert "NOT met" in html and 'class="fb-proc-acceptance"' in html
+    assert "Rejected:" in html and ">rejected<" in html and 'class="fb-proc-acceptance"' in html
+    assert "warning_count" not in html and "&lt;=" not in html   # the rule in words, not code
     d = bad.to_dict()
     assert json.loads(json.dumps(d)) == d and d["accepted"] is False
 

@@ -56,16 +56,20 @@ def test_table_has_sensitivity_contribution_and_share(draft):
     ua, ub = 0.01, 0.03 / math.sqrt(3)  # GUM 4.3.7
     ca, cb = 2.0, 1.0
     uc = math.hypot(ca * ua, cb * ub)
-    assert a[0] == "a" and a[5] == "2" and a[6] == format_u(ca * ua, "W")
-    assert b[5] == "1" and b[6] == format_u(cb * ub, "W")
+    # sensitivity coefficients carry their unit: dP/da in W/A, dP/db in W/V (JCGM 100:2008 5.1.3)
+    assert a[0] == "a" and a[5] == "2 W/A" and a[6] == format_u(ca * ua, "W")
+    assert b[5] == "1 W/V" and b[6] == format_u(cb * ub, "W")
     assert a[7] == f"{100 * (ca * ua / uc) ** 2:.1f} %"
     assert foot[1] == format_u(uc, "W")
 
 
-def test_bars_and_summary(draft):
+def test_chart_sorted_by_share_and_result_on_top(draft):
     v = BudgetView(draft)
-    assert v.chart.value.count('class="fb-bar"') == 2
-    assert "U = " in v.summary.value and "P = (" in v.summary.value  # the statement
+    assert v.chart.value.count('class="fb-share-bar"') == 2 and "<svg" in v.chart.value
+    # b's share (cb ub)^2 = 3e-4 exceeds a's (ca ua)^2 = 4e-4? no: a = 4e-4 > b = 3e-4, so a comes first
+    assert v.chart.value.index(">a</text>") < v.chart.value.index(">b</text>")
+    assert "P = (" in v.summary.value  # the statement
+    assert "U = " in v.headline.value and v.children.index(v.headline) < v.children.index(v.table)
 
 
 def test_chart_can_be_hidden(draft):
@@ -75,7 +79,7 @@ def test_chart_can_be_hidden(draft):
 def test_no_budget_yet_says_why():
     d = BudgetDraft(model="a", rows=[{"symbol": "a", "uncertainty": "-1"}])
     v = BudgetView(d)
-    assert "no budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
+    assert "No budget yet" in v.note.value and "&gt;= 0" in v.note.value and v.table.value == ""
 
 
 def test_view_follows_the_draft_until_closed(draft):
@@ -88,18 +92,29 @@ def test_view_follows_the_draft_until_closed(draft):
     assert v.table.value == old
 
 
-@pytest.mark.parametrize("x, text", [(0.5, "0.500 V"), (1.2649e-8, "1.26e-08 V"), (0.0, "0 V"), (None, "")])
+# two significant digits (JCGM 100:2008, 7.2.6) with an SI prefix
+@pytest.mark.parametrize("x, text", [(0.5, "500 mV"), (1.2649e-8, "13 nV"), (4.86e-6, "4.9 \u00b5V"), (0.0, "0 V"),
+                                     (None, "")])
 def test_format_u(x, text):
     assert format_u(x, "V" if x is not None else "") == text
+
+
+def test_large_dof_and_unicode_units():
+    d = BudgetDraft(model="t", measurand="T_room", measurand_unit="degC",
+                    rows=[{"symbol": "t", "estimate": "23.1", "unit": "degC", "uncertainty": "0.2", "dof": "2e8"}])
+    html = BudgetView(d).table.value
+    assert "&gt; 1000" in html and "\u00b0C" in html and "degC" not in html
 
 
 def test_uc_cell_is_findable_by_class(draft):
     assert re.search(r'<td class="fb-uc"[^>]*>[^<]+</td>', BudgetView(draft).table.value)
 
 
-def test_bars_are_block_characters_proportional_to_share():
-    from fieldbudget.widgets.budget_view import _bar
+def test_bar_lengths_proportional_to_share(draft):
+    import re as _re
 
-    assert _bar(1.0, 40) == "\u2588" * 40
-    assert _bar(0.5, 40) == "\u2588" * 20
-    assert _bar(1 / 320, 40) == "\u258f" and _bar(0.0, 40) == ""
+    v = BudgetView(draft)
+    widths = [float(x) for x in _re.findall(r'class="fb-share-bar" x="\d+" y="[\d.]+" width="([\d.]+)"', v.chart.value)]
+    ua, ub = 0.01, 0.03 / math.sqrt(3)
+    share_a = (2 * ua) ** 2 / ((2 * ua) ** 2 + ub ** 2)
+    assert widths[0] / (widths[0] + widths[1]) == pytest.approx(share_a, abs=2e-3)

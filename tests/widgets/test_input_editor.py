@@ -33,11 +33,11 @@ def row_box(editor, i, key):
 
 def test_value_change_rebuilds_budget_and_table(views):
     d, ed, bv = views
-    assert uc_text(bv) == "0.500 V"
+    assert uc_text(bv) == "500 mV"  # two significant digits with an SI prefix
     row_box(ed, 0, "uncertainty").box.value = "1.2"
     assert d.budget.inputs[0].standard_uncertainty == 1.2
     assert d.result.standard_uncertainty == pytest.approx(math.hypot(1.2, 0.4))
-    assert uc_text(bv) == "1.26 V"
+    assert uc_text(bv) == "1.3 V"
     assert bv.note.value == ""
 
 
@@ -55,7 +55,7 @@ def test_bad_value_message_beside_field_last_good_stays(views, key, text):
               if (i, k) != (0, key)]
     assert not any(others)  # the message is beside that field only
     bt.box.value = "0.3" if key != "dof" else ""
-    assert bt.msg.value == "" and bv.note.value == "" and uc_text(bv) == "0.500 V"
+    assert bt.msg.value == "" and bv.note.value == "" and uc_text(bv) == "500 mV"
 
 
 def test_impossible_correlation_message_beside_correlation(views):
