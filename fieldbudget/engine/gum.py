@@ -118,24 +118,19 @@ def _welch_satterthwaite(uc: float, ui: np.ndarray, nu: np.ndarray) -> float:
 
 
 def correlated_sets(R: np.ndarray) -> list[tuple[int, ...]]:
-    """The connected sets of inputs under the correlation matrix ``R`` (singletons included), in input order."""
-    n = R.shape[0]
+    """The connected sets of inputs under the correlation matrix ``R`` (singletons included), in input order.
+
+    Graph components by ``scipy.sparse.csgraph.connected_components``; two inputs are linked when their
+    correlation coefficient is not zero.
+    """
+    from scipy.sparse.csgraph import connected_components
+
     linked = np.abs(R - np.diag(np.diag(R))) > 0
-    seen: set[int] = set()
-    sets = []
-    for start in range(n):
-        if start in seen:
-            continue
-        comp, todo = {start}, [start]
-        while todo:
-            i = todo.pop()
-            for j in np.flatnonzero(linked[i]):
-                if int(j) not in comp:
-                    comp.add(int(j))
-                    todo.append(int(j))
-        seen |= comp
-        sets.append(tuple(sorted(comp)))
-    return sets
+    _, labels = connected_components(linked, directed=False)
+    sets: dict[int, list[int]] = {}
+    for i, label in enumerate(labels):
+        sets.setdefault(int(label), []).append(i)
+    return sorted((tuple(v) for v in sets.values()), key=lambda t: t[0])
 
 
 def welch_satterthwaite_correlated(uc: float, c: np.ndarray, V: np.ndarray, nu: np.ndarray,

@@ -329,20 +329,11 @@ def _plan(budget) -> _Plan:
     groups: list[_Group] = []
     if budget.has_correlations:
         R = np.asarray(budget.correlation_matrix(), dtype=float)
-        linked = (np.abs(R - np.diag(np.diag(R))) > 0)
-        seen: set[int] = set()
-        for start in range(len(names)):           # connected sets of correlated inputs, in input order
-            if start in seen or not linked[start].any():
+        from .gum import correlated_sets
+
+        for idx in correlated_sets(R):           # connected sets of correlated inputs, in input order
+            if len(idx) == 1:
                 continue
-            comp, todo = {start}, [start]
-            while todo:
-                i = todo.pop()
-                for j in np.flatnonzero(linked[i]):
-                    if int(j) not in comp:
-                        comp.add(int(j))
-                        todo.append(int(j))
-            idx = tuple(sorted(comp))
-            seen |= comp
             for i in idx:
                 if not isinstance(dists[i], (Normal, TypeA)):
                     raise InputError(
