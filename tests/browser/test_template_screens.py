@@ -91,6 +91,16 @@ def _shot(page, path, locator=None) -> None:
     page.screenshot(path=str(path))
 
 
+def _expect_seen(locator, timeout: int = 30_000) -> None:
+    """Visible once scrolled to: JupyterLab skips rendering cells outside the viewport
+    (content-visibility), so a form below a long introduction counts as hidden until then."""
+    from playwright.sync_api import expect
+
+    locator.wait_for(state="attached", timeout=timeout)
+    locator.scroll_into_view_if_needed(timeout=30_000)
+    expect(locator).to_be_visible(timeout=30_000)
+
+
 def _open_lab(page, jupyter_lab, name: str) -> None:
     from playwright.sync_api import expect
 
@@ -120,7 +130,7 @@ def test_template_screen(front, name, request, served, browser_context, artifact
         else:
             _open_voila(page, request.getfixturevalue("voila"), served, name)
         proc = page.locator(".fb-proc").first
-        expect(page.locator(".fb-proc-next").first).to_be_visible(timeout=120_000)
+        _expect_seen(page.locator(".fb-proc-next").first, timeout=120_000)
         _shot(page, f"{stem}-top.png", proc)
 
         # the safety cautions: once, at the top, foldable
@@ -167,7 +177,7 @@ def test_template_screen(front, name, request, served, browser_context, artifact
 
         # the figures are drawn
         share = page.locator(".fb-share-svg").first
-        expect(share).to_be_visible()
+        _expect_seen(share)
         assert share.bounding_box()["width"] > 200
         if name == "nmr-reference-field":
             trials = page.locator(".fb-field-trials input").first
@@ -178,7 +188,7 @@ def test_template_screen(front, name, request, served, browser_context, artifact
             expect(page.locator(".fb-mc-verdict .fb-verdict").first).to_be_visible(timeout=120_000)
         else:
             image = page.locator("img.fb-curve-img").first
-        expect(image).to_be_visible(timeout=60_000)
+        _expect_seen(image, timeout=60_000)
         image.evaluate("e => e.scrollIntoView({block: 'center'})")
         page.wait_for_function("e => e.complete && e.naturalWidth > 300", arg=image.element_handle(), timeout=30_000)
         page.screenshot(path=f"{stem}-figure.png")
