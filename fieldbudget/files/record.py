@@ -567,9 +567,6 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
                          procedure=procedure, created_utc=created_utc, previous=previous)
     if hooked is not None:
         if sign is not None:
-            if not isinstance(hooked, Record):
-                raise InputError("sign", str(sign), "left out for a calibration record (its signing is not "
-                                 "supported yet)", "make_record")
             hooked = sign_record(hooked, sign, passphrase=passphrase)
         return hooked
     for name, value in (("operator", operator), ("remarks", remarks), ("reason", reason)):
@@ -692,10 +689,11 @@ def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time
     """
     from dataclasses import replace
 
+    from . import calibration_record as cr
     from .signing import sign_digest
 
-    if not isinstance(record, Record):
-        raise InputError("record", type(record).__name__, "a Record", "sign_record")
+    if not isinstance(record, (Record, cr.CalibrationRecord)):
+        raise InputError("record", type(record).__name__, "a Record or a CalibrationRecord", "sign_record")
     k = _signing_key(key, passphrase)
     if not record.digest_ok():
         raise DigestMismatch("not signed: the record's digest does not match its content (it was changed after it "
@@ -704,6 +702,8 @@ def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time
         if s.get("fingerprint") == k.fingerprint and s.get("role") == k.role:
             raise InputError("key", f"{k.name} ({k.role})", "a key that has not signed this record in this role yet",
                              "sign_record")
+    if isinstance(record, cr.CalibrationRecord):
+        return cr.sign_calibration_record(record, k)
     entry = sign_digest(k, record.digest, time)
     return replace(record, signatures=(*record.signatures, _freeze(entry)))
 
@@ -1019,13 +1019,16 @@ def _read_for_verify(path: str | Path) -> bytes:
         raise RecordError(f"{path}: cannot read the record ({err.strerror or type(err).__name__})") from None
 
 
-def _signature_checks(record: Record, trusted: str | Path | Mapping | None) -> tuple[list[Check], tuple]:
+def signature_checks(signatures, content_digest: str,
+                     trusted: str | Path | Mapping | None) -> tuple[list[Check], tuple]:
+    """One :class:`Check` per signature entry over ``content_digest`` (the digest the content gives,
+    not the stored one), plus the signature results; used for every kind of record."""
     from .signing import check_signature, load_trusted
 
     keys = None
     if trusted is not None:
         keys = dict(trusted) if isinstance(trusted, Mapping) else load_trusted(trusted)
-    results = tuple(check_signature(_thaw(s), record.computed_digest(), keys) for s in record.signatures)
+    results = tuple(check_signature(_thaw(s), content_digest, keys) for s in signatures)
     checks = []
     if not results:
         checks.append(Check("signatures", "info", "UNSIGNED: nobody signed this record; the digest protects it "
@@ -1061,7 +1064,7 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
 
     if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
                                                     cr.record_kind(record) in cr.KINDS):
-        return cr.verify_calibration_record(record)
+        return cr.verify_calibration_record(record, trusted=trusted)
     checks: list[Check] = []
     where = ""
     if isinstance(record, (str, Path)):
@@ -1083,7 +1086,7 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
         checks.append(Check("digest", "pass", f"SHA-256 {computed}"))
     else:
         checks.append(Check("digest", "fail", f"stored {record.digest or '(none)'} but the content gives {computed}"))
-    sig_checks, sig_results = _signature_checks(record, trusted)
+    sig_checks, sig_results = signature_checks(record.signatures, computed, trusted)
     checks.extend(sig_checks)
 
     from ..engine import Budget, evaluate
