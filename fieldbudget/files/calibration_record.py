@@ -67,25 +67,9 @@ def _utc_now() -> str:
 
 def _plain(x: Any, where: str = "#") -> Any:
     """Plain JSON types; infinite numbers become None (infinite degrees of freedom), NaN is refused."""
-    if x is None or isinstance(x, (bool, str)):
-        return x
-    if isinstance(x, int):
-        return int(x)
-    if isinstance(x, float):
-        if math.isnan(x):
-            raise RecordError(f"{where}: NaN cannot be stored in a record")
-        return None if math.isinf(x) else float(x)
-    if isinstance(x, Mapping):
-        return {str(k): _plain(v, f"{where}/{k}") for k, v in x.items()}
-    if isinstance(x, (list, tuple)):
-        return [_plain(v, f"{where}/{i}") for i, v in enumerate(x)]
-    item = getattr(x, "item", None)
-    if callable(item):
-        return _plain(item(), where)
-    tolist = getattr(x, "tolist", None)
-    if callable(tolist):
-        return _plain(tolist(), where)
-    raise RecordError(f"{where}: a {type(x).__name__} cannot be stored in a record (plain JSON values only)")
+    from .record import _jsonable
+
+    return _jsonable(x, where, infinite_as_none=True)
 
 
 def _canonical(doc: Mapping) -> bytes:

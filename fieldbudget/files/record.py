@@ -120,24 +120,29 @@ def _thaw(x: Any) -> Any:
     return x
 
 
-def _jsonable(x: Any, where: str) -> Any:
-    """Plain JSON types only; numpy scalars become Python numbers; NaN/inf are refused."""
+def _jsonable(x: Any, where: str, *, infinite_as_none: bool = False) -> Any:
+    """Plain JSON types only; numpy scalars and arrays become Python numbers and lists; NaN is refused,
+    and so is an infinite number unless ``infinite_as_none`` (infinite degrees of freedom stored as null)."""
     if x is None or isinstance(x, (bool, str)):
         return x
     if isinstance(x, int):
         return int(x)
     if isinstance(x, float):
+        if math.isinf(x) and infinite_as_none:
+            return None
         if not math.isfinite(x):
             raise RecordError(f"{where}: {x!r} cannot be stored in a record (finite numbers only; infinite dof is null)")
         return float(x)
     if isinstance(x, Mapping):
-        return {str(k): _jsonable(v, f"{where}/{k}") for k, v in x.items()}
+        return {str(k): _jsonable(v, f"{where}/{k}", infinite_as_none=infinite_as_none) for k, v in x.items()}
     if isinstance(x, (list, tuple)):
-        return [_jsonable(v, f"{where}/{i}") for i, v in enumerate(x)]
-    # numpy scalars and the like, without importing numpy here
-    item = getattr(x, "item", None)
+        return [_jsonable(v, f"{where}/{i}", infinite_as_none=infinite_as_none) for i, v in enumerate(x)]
+    # numpy arrays and scalars, without importing numpy here
+    tolist, item = getattr(x, "tolist", None), getattr(x, "item", None)
+    if callable(tolist) and getattr(x, "ndim", 0):
+        return _jsonable(tolist(), where, infinite_as_none=infinite_as_none)
     if callable(item):
-        return _jsonable(item(), where)
+        return _jsonable(item(), where, infinite_as_none=infinite_as_none)
     raise RecordError(f"{where}: a {type(x).__name__} cannot be stored in a record (plain JSON values only)")
 
 
