@@ -65,6 +65,21 @@ def test_json_and_toml_entries_agree(tmp_path):
     assert a.to_dict() == b.to_dict()
 
 
+def test_json_entries_are_read_strictly(tmp_path, capsys):
+    """RFC 8259 4 leaves duplicate names undefined; a register entry (and a monitoring file) naming a
+    key twice is refused, naming the key, instead of keeping the last value silently."""
+    text = json.dumps(load_instrument(EXAMPLE_LAB / "register" / "FC-9.toml").to_dict())
+    p = tmp_path / "FC-9.json"
+    p.write_text(text[:-1] + ', "id": "FC-10"}', encoding="utf-8")
+    with pytest.raises(BudgetFileError, match="duplicate key 'id'"):
+        load_instrument(p)
+    scores = tmp_path / "scores.json"
+    scores.write_text('{"rounds": [], "rounds": []}', encoding="utf-8")
+    assert main(["monitor", "scores", str(scores)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "duplicate key 'rounds'" in err and "\n" not in err
+
+
 def test_a_due_date_before_the_certificate_is_refused(tmp_path):
     doc = load_instrument(EXAMPLE_LAB / "register" / "PX-4.toml").to_dict()
     doc["certificates"][0]["due"] = "2020-01-01"
