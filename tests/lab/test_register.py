@@ -177,6 +177,26 @@ def test_nmr_command_resolves_from_the_lab(capsys, tmp_path, monkeypatch):
     # a record is never overwritten
     assert main(["nmr", str(f), "--accept-expired", "PX-4=again", "--record-out", str(rec_path)]) == 2
     assert "never overwritten" in capsys.readouterr().err
+    # the record keeps the resolved measurement, so that verify re-builds it without the register
+    from fieldbudget.files.record import verify_record
+
+    check = verify_record(rec_path)
+    assert check.passed and any(c.name == "measurement" and c.status == "pass" for c in check.checks)
+
+
+def test_record_command_resolves_from_the_lab_like_nmr(capsys, tmp_path, monkeypatch):
+    """`fieldbudget record` of a measurement naming register instruments takes --lab and --accept-expired
+    as `fieldbudget nmr` does, and both give the same budget."""
+    monkeypatch.delenv("FIELDBUDGET_LAB", raising=False)
+    src = MEASUREMENTS / "LMCL-NMR-2026-07-21-01.json"
+    assert main(["record", str(src), "-o", str(tmp_path / "a.json")]) == 2
+    err = capsys.readouterr().err
+    assert "--lab" in err and len(err.strip().splitlines()) == 1
+    assert main(["record", str(src), "-o", str(tmp_path / "a.json"), "--lab", str(EXAMPLE_LAB)]) == 0
+    assert main(["nmr", str(src), "--lab", str(EXAMPLE_LAB), "--record-out", str(tmp_path / "b.json")]) == 0
+    a, b = load_record(tmp_path / "a.json"), load_record(tmp_path / "b.json")
+    assert a.budget == b.budget and a.gum == b.gum
+    assert a.budget["metadata"]["measurement_metadata"]["register"]
 
 
 def test_register_commands(capsys, tmp_path):
