@@ -62,7 +62,24 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
     return parser
 
 
+def _skip_format_grammars() -> None:
+    """Keep jsonschema from building rfc3987_syntax's grammars (about 1 s) in a command's process.
+
+    jsonschema's format module imports that optional package, when installed
+    (the jupyter extra brings it), to check "iri" formats, and the package
+    builds its grammars on import.  The kit never checks formats
+    (validators are built without a format checker), so the command line
+    marks the package as absent before jsonschema loads: a ``None`` entry in
+    ``sys.modules`` makes its import fail as if it were not installed, which
+    jsonschema handles by leaving those two formats out.  Only this process
+    (a command) is affected, never a notebook kernel.
+    """
+    if "jsonschema" not in sys.modules:
+        sys.modules.setdefault("rfc3987_syntax", None)
+
+
 def main(argv: list[str] | None = None) -> int:
+    _skip_format_grammars()
     if argv is None:
         argv = sys.argv[1:]
     parser = build_parser(_command_named(argv))

@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Mapping
+from operator import itemgetter
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -84,38 +85,50 @@ class Measurand:
         return d
 
 
-def _plain_pairs(items, known: set) -> list | None:
-    """The correlations as (a, b, float r) when every item is a good pair given once; else None.
+def _plain_pairs(items, symbols: list[str]) -> tuple | None:
+    """``(pairs, ia, ib, r)`` when every item is a good pair given once (or repeated with the same r); else None.
 
-    Same acceptance as the item-by-item checks in :class:`Budget` (which name the first bad item), done
-    with set and numpy operations so that half a million pairs take a fraction of a second.
+    ``pairs`` are the (a, b, float r) triples, ``ia`` and ``ib`` the inputs'
+    indices in ``symbols`` and ``r`` the coefficients as arrays.  Same
+    acceptance as the item-by-item checks in :class:`Budget` (which name the
+    first bad item), done with dict look-ups and numpy so that half a
+    million pairs take a fraction of a second.
     """
     if not items:
-        return []
+        return [], None, None, None
     try:
-        return _quick_pairs(items, known)
-    except TypeError:  # an item that is no sequence, an unhashable symbol: the full check names it
+        return _quick_pairs(items, symbols)
+    except (TypeError, KeyError):  # no sequence, an unhashable or unknown symbol: the full check names it
         return None
 
 
-def _quick_pairs(items, known: set) -> list | None:
-    if not all(len(item) == 3 for item in items):
+def _quick_pairs(items, symbols: list[str]) -> tuple | None:
+    if set(map(len, items)) != {3}:
         return None
-    a_s, b_s, r_s = zip(*items)
-    if not known.issuperset(a_s) or not known.issuperset(b_s) or any(a == b for a, b in zip(a_s, b_s)):
+    a_s = list(map(itemgetter(0), items))
+    b_s = list(map(itemgetter(1), items))
+    r_s = list(map(itemgetter(2), items))
+    index = {s: k for k, s in enumerate(symbols)}
+    n = len(a_s)
+    ia = np.fromiter(map(index.__getitem__, a_s), dtype=np.intp, count=n)
+    ib = np.fromiter(map(index.__getitem__, b_s), dtype=np.intp, count=n)
+    if np.any(ia == ib):
         return None
-    if not all(type(r) is float or (isinstance(r, (int, float)) and not isinstance(r, bool)) for r in r_s):
-        return None
+    all_float = {float}.issuperset(map(type, r_s))
+    if not all_float and not {float, int}.issuperset(map(type, r_s)):
+        if not all(isinstance(r, (int, float)) and not isinstance(r, bool) for r in r_s):
+            return None
     r = np.array(r_s, dtype=float)
     if not (np.all(np.isfinite(r)) and np.all(np.abs(r) <= 1)):
         return None
-    values = r.tolist()
-    seen: dict[tuple, float] = {}
-    for a, b, v in zip(a_s, b_s, values):
-        key = (a, b) if a < b else (b, a)
-        if seen.setdefault(key, v) != v:
-            return None
-    return list(zip(a_s, b_s, values))
+    key = np.minimum(ia, ib) * len(symbols) + np.maximum(ia, ib)
+    order = np.argsort(key, kind="stable")
+    same = key[order][1:] == key[order][:-1]
+    if np.any(same & (r[order][1:] != r[order][:-1])):
+        return None  # a pair given twice with two different coefficients
+    if all_float and {tuple}.issuperset(map(type, items)):
+        return items, ia, ib, r  # already (a, b, float r) triples
+    return list(zip(a_s, b_s, r.tolist())), ia, ib, r
 
 
 @dataclass(frozen=True)
@@ -246,7 +259,10 @@ class Budget:
         object.__setattr__(self, "metadata", FrozenMapping(self.metadata))
         # correlations: a quick check of the whole list first (a full matrix of 1000 inputs is 499 500
         # pairs); only a list that fails it goes through the loop below, which names the first bad pair
-        corr = _plain_pairs(self.correlations, known)
+        quick = _plain_pairs(self.correlations, symbols)
+        corr = None if quick is None else quick[0]
+        if quick is not None and quick[1] is not None:
+            object.__setattr__(self, "_pair_index", quick[1:])  # for the correlation matrix
         seen: dict[frozenset, float] = {}
         slow: list = [] if corr is None else None  # type: ignore[assignment]
         for item in (self.correlations if corr is None else ()):
@@ -339,9 +355,13 @@ class Budget:
             r[np.ix_(at, at)] = np.where(off, c, r[np.ix_(at, at)])
         if self.correlations:
             # one assignment per side instead of a Python loop over the pairs (same numbers)
-            a = np.fromiter((idx[x] for x, _, _ in self.correlations), dtype=np.intp, count=len(self.correlations))
-            b = np.fromiter((idx[y] for _, y, _ in self.correlations), dtype=np.intp, count=len(self.correlations))
-            v = np.fromiter((c for _, _, c in self.correlations), dtype=float, count=len(self.correlations))
+            pairs = self.__dict__.get("_pair_index")
+            if pairs is None:
+                n = len(self.correlations)
+                pairs = (np.fromiter((idx[x] for x, _, _ in self.correlations), dtype=np.intp, count=n),
+                         np.fromiter((idx[y] for _, y, _ in self.correlations), dtype=np.intp, count=n),
+                         np.fromiter((c for _, _, c in self.correlations), dtype=float, count=n))
+            a, b, v = pairs
             r[a, b] = v
             r[b, a] = v
         return r

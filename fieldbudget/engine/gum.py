@@ -210,10 +210,15 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     C, y, method = sensitivities(budget)
     u = np.array([q.standard_uncertainty for q in budget.inputs])
     nu = np.array([q.dof for q in budget.inputs])
-    R = budget.correlation_matrix()
+    R = V = None
     with np.errstate(all="ignore"):
-        V = R * np.outer(u, u)
-        cov = C @ V @ C.T
+        if budget.has_correlations:
+            R = budget.correlation_matrix()
+            V = R * np.outer(u, u)
+            cov = C @ V @ C.T
+        else:
+            # V is diagonal: no n x n matrix (10 000 inputs would need 800 MB), the same numbers as C V C^T
+            cov = (C * (u * u)) @ C.T
     if not np.all(np.isfinite(cov)) or not np.all(np.isfinite(C)):
         raise ModelEvaluationError(
             f"model {budget.model.text()!r}: the combined variance is not a finite number (a sensitivity "
