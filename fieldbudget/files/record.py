@@ -513,12 +513,23 @@ def _as_budget(budget: Any):
     raise InputError("budget", type(budget).__name__, "an engine Budget or budget file content (a dict)", "make_record")
 
 
-def _run_monte_carlo(budget, trials: int, seed: int, adaptive: bool = False):
+def _run_monte_carlo(budget, trials: int, seed: int, adaptive: bool = False, sampler: int | None = None):
+    """A Monte Carlo run as recorded; ``sampler`` is the recorded sampler version (None: the current one)."""
     from ..engine import montecarlo
 
     if adaptive:  # the adaptive procedure (JCGM 101 7.9.4) picks M itself from the same seed
-        return montecarlo.run(budget, seed=seed, adaptive=True)
-    return montecarlo.run(budget, trials=trials, seed=seed)
+        return montecarlo.run(budget, seed=seed, adaptive=True, sampler=sampler)
+    return montecarlo.run(budget, trials=trials, seed=seed, sampler=sampler)
+
+
+def recorded_sampler(block: object) -> int:
+    """The sampler version of a recorded Monte Carlo block: its ``sampler``, or 1 for records made before it."""
+    from ..engine import montecarlo
+
+    v = block.get("sampler", 1) if isinstance(block, Mapping) else 1
+    if isinstance(v, bool) or v not in montecarlo.SAMPLERS:
+        raise RecordError(f"Monte Carlo sampler {v!r} is not one this release knows ({list(montecarlo.SAMPLERS)})")
+    return int(v)
 
 
 def _validate(gum, mc):
@@ -1136,7 +1147,8 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
     else:
         mc = record.monte_carlo
         try:
-            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive")))
+            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive")),
+                                     recorded_sampler(mc))
         except (FieldbudgetError, TypeError, ValueError) as err:
             checks.append(Check("Monte Carlo", "fail", f"re-run failed: {err}"))
         else:
