@@ -237,7 +237,10 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
         common.append(f"every input of the model is a reading of the simultaneous group {', '.join(group)}: the "
                       f"output was computed for each of the {n_sets} sets of readings and evaluated by Type A "
                       "(JCGM 100:2008 H.2, second approach)")
+    from .second_order import method_in_use
+
     u2o: float | None = None
+    u2o_method = method_in_use(budget)  # recorded even without second-order terms: validation may compute them
     if second_order or budget.second_order:
         from .second_order import combined_uncertainty as _second_order
 
@@ -309,6 +312,7 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
             contributions=contribs, correlation_variance=corr_var, higher_order_variance=higher,
             sensitivity_method=method,
             warnings=tuple(warn), u_second_order=u2o, dof_method=dof_method, readings_sets=n_sets,
+            second_order_method=u2o_method,
         ))
     if len(results) == 1:
         return results[0]

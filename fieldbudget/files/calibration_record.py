@@ -327,7 +327,8 @@ def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None,
         "budget": _plain(budget.to_dict(), "#/budget"),
         "input_order": [q.symbol for q in budget.inputs],
         "settings": {"forced_monte_carlo": monte_carlo, "seed": seed,
-                     "monte_carlo": None if mc is None else _mc_settings(results)},
+                     "monte_carlo": None if mc is None else _mc_settings(results),
+                     "second_order_method": _second_order_method()},
         "results": results,
         "certificate": dict(certificate or {}),
     })
@@ -383,10 +384,17 @@ def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: in
                 "settings": {"forced_monte_carlo": None, "seed": seed,
                              "monte_carlo": None if mc_d is None else {"trials": int(_first(mc_d, "trials")),
                                                                        "seed": int(_first(mc_d, "seed")),
-                                                                       "sampler": _sampler_of(mc_d)}},
+                                                                       "sampler": _sampler_of(mc_d)},
+                             "second_order_method": _second_order_method()},
                 "results": _plain({"gum": gum.to_dict(), "monte_carlo": mc_d}, "#/results")})
     _revision(doc, previous, "budget")
     return _seal(doc, sign)
+
+
+def _second_order_method() -> int:
+    from ..engine import second_order
+
+    return second_order.default_method()
 
 
 def _sampler_of(mc_d: Mapping) -> int:
@@ -517,9 +525,14 @@ def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted
     settings = doc.get("settings") or {}
     try:
         from ..engine import montecarlo as _mc
+        from ..engine import second_order as _so
         from .record import recorded_sampler
 
-        with _mc.sampler_version(recorded_sampler(settings.get("monte_carlo"))):  # 1 for older records
+        method = settings.get("second_order_method", 1)  # 1 for records made before methods were recorded
+        if isinstance(method, bool) or method not in _so.METHODS:
+            raise RecordError(f"second-order method {method!r} is not one this release knows "
+                              f"({list(_so.METHODS)})")
+        with _mc.sampler_version(recorded_sampler(settings.get("monte_carlo"))), _so.method_version(method):
             if record.is_calibration:
                 _, fresh = _evaluate_calibration(doc["resolved_file"], settings.get("forced_monte_carlo"),
                                                  int(settings["seed"]))
