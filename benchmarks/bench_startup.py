@@ -36,9 +36,9 @@ def _fixtures(python: str, folder: Path) -> dict[str, Path]:
         shutil.copy(csv, folder / csv.name)
     budget, record = folder / "nmr-budget.json", folder / "gum.record.json"
     subprocess.run([python, "-m", "fieldbudget", "nmr", str(folder / MEASUREMENT.name), "--budget-out",
-                    str(budget)], check=True, capture_output=True)
+                    str(budget)], check=True, capture_output=True, cwd=folder)
     subprocess.run([python, "-m", "fieldbudget", "record", str(budget), "-o", str(record), "--operator",
-                    "bench"], check=True, capture_output=True)
+                    "bench"], check=True, capture_output=True, cwd=folder)
     return {"measurement": folder / MEASUREMENT.name, "budget": budget, "record": record}
 
 
@@ -55,35 +55,45 @@ def _commands(f: dict[str, Path], out: Path) -> dict[str, list[str]]:
     }
 
 
-def _time(argv: list[str], env: dict) -> float:
+def _time(argv: list[str], env: dict, cwd: Path) -> float:
+    # cwd outside the work tree: `python -m` puts the current folder first on sys.path, and another
+    # install's interpreter would otherwise import this checkout's package
     t0 = time.perf_counter()
-    subprocess.run(argv, check=False, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env)
-    return time.perf_counter() - t0
+    done = subprocess.run(argv, check=False, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=env, cwd=cwd)
+    took = time.perf_counter() - t0
+    if done.returncode != 0:
+        raise SystemExit(f"bench_startup: {' '.join(argv)} failed: {done.stderr.decode(errors='replace')[-300:]}")
+    return took
 
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--rounds", type=int, default=7)
-    ap.add_argument("--python", default=sys.executable, help="the interpreter whose fieldbudget is timed")
+    ap.add_argument("--python", action="append", default=None,
+                    help="an interpreter whose fieldbudget is timed (repeat to interleave several installs; "
+                         "default this one)")
     args = ap.parse_args()
+    pythons = args.python or [sys.executable]
     env = dict(os.environ, PYTHONDONTWRITEBYTECODE="1")
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        fixtures = _fixtures(args.python, folder)
+        fixtures = _fixtures(pythons[0], folder)
         commands = _commands(fixtures, folder)
-        baseline = [args.python, "-c", "import numpy, scipy.stats"]
-        times: dict[str, list[float]] = {"baseline": [], **{k: [] for k in commands}}
-        _time(baseline, env)  # warm the file cache once
+        times = {py: {"baseline": [], **{k: [] for k in commands}} for py in pythons}
+        for py in pythons:
+            _time([py, "-c", "import numpy, scipy.stats"], env, folder)  # warm the file cache once
         for _ in range(args.rounds):
-            times["baseline"].append(_time(baseline, env))
-            for name, argv in commands.items():
-                times[name].append(_time([args.python, "-m", "fieldbudget", *argv], env))
-    base = statistics.median(times["baseline"])
-    print(f"python: {args.python}; {args.rounds} interleaved rounds, medians")
-    print(f"baseline `python -c \"import numpy, scipy.stats\"`: {base * 1e3:.0f} ms")
-    for name in commands:
-        med = statistics.median(times[name])
-        print(f"  fieldbudget {name:<18} {med * 1e3:6.0f} ms   ratio {med / base:4.2f}  (goal <= 1.3)")
+            for py in pythons:
+                times[py]["baseline"].append(_time([py, "-c", "import numpy, scipy.stats"], env, folder))
+                for name, argv in commands.items():
+                    times[py][name].append(_time([py, "-m", "fieldbudget", *argv], env, folder))
+    for py in pythons:
+        base = statistics.median(times[py]["baseline"])
+        print(f"python: {py}; {args.rounds} interleaved rounds, medians")
+        print(f"baseline `python -c \"import numpy, scipy.stats\"`: {base * 1e3:.0f} ms")
+        for name in commands:
+            med = statistics.median(times[py][name])
+            print(f"  fieldbudget {name:<18} {med * 1e3:6.0f} ms   ratio {med / base:4.2f}  (goal <= 1.3)")
 
 
 if __name__ == "__main__":
