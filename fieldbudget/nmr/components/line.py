@@ -101,9 +101,6 @@ COMPONENT = Component(
         Key("natural_fwhm_Hz", "number", "natural linewidth", "the sample's own width without gradients or "
             "susceptibility broadening; the warnings compare against it", unit="Hz", lo=0.0, lo_open=True),
         Key("max_broadening_ratio", "number", "usable broadening ratio k", "default 1", lo=0.0, lo_open=True),
-        Key("detection", "choice", "how the centre is found", "`centroid` (default: the volume mean, no shift), "
-            "`peak` (the mode of the line) or `fit` (a Lorentzian fit); a non-spherical sample shifts the peak "
-            "from the mean", choices=("centroid", "peak", "fit")),
         Key("source", "text", "source", "free text"),
     ),
     build=_build,
