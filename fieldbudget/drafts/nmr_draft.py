@@ -57,8 +57,9 @@ def _derived_fields() -> tuple[FieldSpec, ...]:
     from ..nmr.components import form_fields
 
     out = []
+    groups = _groups()
     for path, key, _title in form_fields():
-        group = _GROUPS[path]
+        group = groups[path]
         if key.kind == "file":
             subs = ("path", "column", "time_column") if path.startswith("drift.") else ("path", "column")
             for sub in subs:
@@ -91,7 +92,6 @@ def _sections() -> tuple[str, ...]:
     return (*out, "other")
 
 
-_GROUPS = _groups()
 SECTIONS = _sections()
 
 #: Every key of the measurement file, derived from ``fieldbudget.nmr.components`` (the form offers them all).
@@ -155,7 +155,7 @@ def _spec_for(path: str, value: Any) -> FieldSpec:
     else:
         kind = "text"
     head, _, _ = path.partition(".")
-    section = next((g for p, g in _GROUPS.items() if p.split(".")[0] == head and "." in p), "other")
+    section = next((g for p, g in _groups().items() if p.split(".")[0] == head and "." in p), "other")
     words = path.split(".")[1:] if section != "other" and "." in path else path.split(".")
     return FieldSpec(path, " ".join(words).replace("_", " "), kind, section)
 
@@ -199,7 +199,10 @@ def _parser(spec: FieldSpec, choices: Mapping[str, tuple]) -> Callable[[str, str
         return _parse_edition
     if spec.kind == "choice":
         opts = tuple(choices.get(spec.path, spec.choices))
-        return parse_choice(opts) if opts else parse_text
+        if not opts:
+            return parse_text
+        chosen = parse_choice(opts if "" in opts else ("", *opts))  # a blank box leaves the key out
+        return lambda text, name: chosen(text, name) or None
     return lambda text, name: text.strip() or None
 
 
@@ -239,12 +242,12 @@ class NMRDraft(Observable):
         An NMR measurement description (the keys of the measurement file).
         Keys the form does not show are kept and passed on unchanged.
     fields : sequence of FieldSpec, optional
-        The fields offered (default :data:`NMR_FIELDS`).
+        The fields offered (default: every key the NMR components declare, as :data:`NMR_FIELDS`).
     base_dir : str or Path
         Where a ``readings_csv`` path in the description is looked up.
     """
 
-    def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] = NMR_FIELDS,
+    def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] | None = None,
                  base_dir: str | Path = ".", choices: Mapping[str, tuple] | None = None,
                  lab: Any = None, accept_expired: Mapping[str, str] | None = None) -> None:
         # a laboratory folder: sections naming a register instrument are resolved before the NMR loader
@@ -259,6 +262,8 @@ class NMRDraft(Observable):
         self.base_dir = str(base_dir)
         self.choices = dict(default_choices() if choices is None else choices)
         leaves = dict(_leaves(self.base))
+        if fields is None:  # derived now, so a component registered later is offered too
+            fields = _derived_fields()
         specs = {s.path: s for s in fields}
         for path, value in leaves.items():
             if path not in specs and path != "format":

@@ -19,8 +19,11 @@ Adding a component is one module with a ``COMPONENT`` and its entry in
 from __future__ import annotations
 
 import importlib
+import json
 from collections.abc import Iterator
 from contextlib import contextmanager
+from functools import cache
+from pathlib import Path
 
 from ... import constants
 from ...engine import Budget, Measurand, Model
@@ -31,9 +34,11 @@ from .header import FILE_FORMAT
 
 __all__ = ["FILE_FORMAT", "KINDS", "PLACES", "Built", "Component", "Context", "Key", "Reader", "Term",
            "build_budget", "components", "form_fields", "key_tables", "registered", "schema", "section_keys",
-           "top_keys", "SCHEMA_ID"]
+           "top_keys", "SCHEMA_ID", "SCHEMA_PATH", "schema_text", "validate"]
 
 SCHEMA_ID = "https://fieldbudget.invalid/schema/nmr-measurement-1.json"
+#: The shipped schema (generated from the declarations by :func:`schema_text`; a test keeps them equal).
+SCHEMA_PATH = Path(__file__).resolve().parents[1] / "nmr-measurement.schema.json"
 
 _MODULES = ("header", "g_factor", "shielding", "frequency", "line", "timebase", "drift", "temperature", "shape",
             "detection", "probe_perturbation", "position", "curvature", "probe")
@@ -51,10 +56,12 @@ def components() -> tuple[Component, ...]:
 def registered(component: Component) -> Iterator[Component]:
     """Add ``component`` for the duration of a ``with`` block (a new component in a test)."""
     _extra.append(component)
+    _validator.cache_clear()
     try:
         yield component
     finally:
         _extra.remove(component)
+        _validator.cache_clear()
 
 
 def sections() -> dict[str | None, list[Key]]:
@@ -128,6 +135,7 @@ def build_budget(m) -> tuple[Budget, tuple]:
     if ctx.facts.get("gamma_note"):
         q0 = ctx.inputs[0]
         ctx.inputs[0] = q0.replace(note="; ".join(x for x in (q0.note, ctx.facts["gamma_note"]) if x))
+    validate(m.description, m.where)  # the schema as a backstop: the build steps gave the precise messages
     expr = _equation(terms)
     try:
         budget = Budget(model=Model.from_expression(expr), inputs=tuple(ctx.inputs),
@@ -216,6 +224,38 @@ def schema() -> dict:
     return {"$schema": "https://json-schema.org/draft/2020-12/schema", "$id": SCHEMA_ID,
             "title": "fieldbudget NMR measurement file", "type": "object", "required": ["frequency"],
             "properties": props, "additionalProperties": False}
+
+
+def schema_text() -> str:
+    """The schema as the shipped file holds it (sorted keys, two-space indent, final newline)."""
+    return json.dumps(schema(), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+@cache
+def _validator():
+    from jsonschema import Draft202012Validator
+
+    # the shipped file when it matches the declarations, else (a component added in a test) the generated one
+    shipped = json.loads(SCHEMA_PATH.read_text(encoding="utf-8")) if SCHEMA_PATH.exists() else None
+    current = schema()
+    return Draft202012Validator(current if shipped != current else shipped)
+
+
+def validate(description, where: str = "measurement") -> None:
+    """Check a (register-resolved) description against the schema; BudgetFileError at the first error's pointer."""
+    errors = sorted(_validator().iter_errors(_plain_json(description)), key=lambda e: list(e.absolute_path))
+    if errors:
+        e = errors[0]
+        ptr = "#" + "".join(f"/{p}" for p in e.absolute_path)
+        raise BudgetFileError(where, ptr, f"does not match the measurement-file schema: {e.message}")
+
+
+def _plain_json(obj):
+    if hasattr(obj, "items"):
+        return {str(k): _plain_json(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_plain_json(v) for v in obj]
+    return obj
 
 
 # --- the form and the docs ---------------------------------------------------------------
