@@ -21,9 +21,9 @@ N(r) is computed numerically from the magnetic surface charge sigma = M . n:
   the charge is a set of rings; the axial field of a ring of charge q and
   radius a at (rho, dz) is H_z = (q/4pi)(2/pi) dz E(m) / ([(rho - a)^2 +
   dz^2] sqrt((rho + a)^2 + dz^2)), m = 4 a rho / ((rho + a)^2 + dz^2)
-  (Smythe, Static and Dynamic Electricity, the charged-ring potential
-  differentiated; from memory, checked in the tests against the uniform
-  field of a sphere and of spheroids, Osborn 1945);
+  (the potential of a charged ring, in complete elliptic integrals,
+  differentiated along z; checked in the tests against the uniform field of
+  spheres and spheroids, Osborn 1945);
 - M across a finite cylinder: the charge M cos(phi') on the side; its z'
   integral is closed, (1/s^2)[u/sqrt(s^2 + u^2)] between the ends, and the
   phi' integral is done by the trapezoidal rule (periodic integrand).
@@ -116,12 +116,14 @@ class LocalField:
         d = self.shifts(chi)
         span = max(self.span(chi), 1e-30)
         width = max(natural_fwhm, 0.0)
-        pad = 6 * span + 20 * width
+        # the line's maximum lies within the range of delta (a convolution with a symmetric unimodal kernel);
+        # the kernel spans the whole grid, so its tails beyond the grid never matter
+        pad = 0.25 * span
         x = np.linspace(d.min() - pad, d.max() + pad, bins)
         h, _ = np.histogram(d, bins=len(x), range=(x[0] - (x[1] - x[0]) / 2, x[-1] + (x[1] - x[0]) / 2),
                             weights=self.weights)
         dx = x[1] - x[0]
-        k = np.arange(-(bins // 2), bins // 2 + 1) * dx
+        k = np.arange(-bins, bins + 1) * dx
         kernel = np.exp(-0.5 * (k / (0.01 * span)) ** 2)
         if width > 0:
             kernel = signal.fftconvolve(kernel / kernel.sum(), 1.0 / (1.0 + (2 * k / width) ** 2), mode="same")

@@ -199,11 +199,23 @@ def test_iupac_nucleus_notes_and_no_codata_reference():
     assert "(1 - sigma_s)" in b.model.text()
 
 
-def test_deuteron_is_derived_and_not_rebased():
-    b = NMRMeasurement.from_dict({"nucleus": "deuteron", "frequency": {"value_Hz": 40e6, "u_Hz": 0.1}}).to_budget()
+def test_deuteron_is_derived_and_rebased_by_rederiving():
+    d = {"nucleus": "deuteron", "frequency": {"value_Hz": 40e6, "u_Hz": 0.1}}
+    b = NMRMeasurement.from_dict(d).to_budget()
     q = b.input("gamma_d")
-    assert q.reference is None
+    assert q.reference == "deuteron gyromag. ratio in MHz/T"
     assert "not a CODATA entry" in q.source and "mu_d/h" in q.source
+    # compare under 2014 re-derives mu_d/h from that edition: equal to a direct evaluation under 2014
+    r14 = evaluate(rebase(b, 2014))
+    direct = NMRMeasurement.from_dict(dict(d, codata=2014)).evaluate()
+    assert r14.estimate == pytest.approx(direct.estimate, rel=1e-15)
+    assert r14.standard_uncertainty == pytest.approx(direct.standard_uncertainty, rel=1e-12)
+    assert "not a CODATA entry" in rebase(b, 2014).input("gamma_d").source
+    # independent: mu_d/h of each edition's tables (CODATA 2014: mu_d = 0.4330735040e-26 J/T,
+    # h = 6.626070040e-34 J s; CODATA 2022: mu_d = 4.330735087e-27 J/T, h exact; values from memory)
+    g14, g22 = 0.4330735040e-26 / 6.626070040e-34, 4.330735087e-27 / 6.62607015e-34
+    assert r14.estimate / evaluate(b).estimate - 1 == pytest.approx(g22 / g14 - 1, rel=1e-6)
+    assert r14.estimate / evaluate(b).estimate - 1 == pytest.approx(-5.75e-9, abs=0.01e-9)
 
 
 def test_frequency_from_csv_column():

@@ -33,16 +33,17 @@ def plain(obj):
 def _build(ctx: Context) -> Built:
     top, nuc = ctx.top, ctx.nucleus
     rv = nuc.gyromagnetic_ratio(ctx.codata)
-    # The current CODATA name (not an older edition's spelling), so that engine.rebase can re-look it up.
-    ref_name = nuc.reference if nuc.kind in ("codata", "electron") else None
+    # The current CODATA name (not an older edition's spelling), so that engine.rebase can re-look it up; a
+    # derived ratio (the deuteron's mu_d/h) by the name under which constants.lookup re-derives it per edition.
+    ref_name = nuc.reference if nuc.kind in ("codata", "electron") else rv.name if nuc.kind == "derived" else None
     sign = "the magnitude of a negative tabulated ratio is used" if rv.value < 0 else ""
-    if ref_name:
+    if ref_name and nuc.kind != "derived":
         role, prov = "reference_constant", {"codata_name": ref_name, "edition": edition_label(rv)}
     else:
         role, prov = "published_data", {"citation": f"{edition_label(rv)}: {rv.source}"}
     q = InputQuantity(
         nuc.symbol, abs(rv.value), Normal(u=rv.uncertainty), unit="MHz/T", reference=ref_name,
-        source=f"{edition_label(rv)}: {rv.name}" + ("" if ref_name else f" ({rv.source})"),
+        source=f"{edition_label(rv)}: {rv.name}" + ("" if nuc.kind in ("codata", "electron") else f" ({rv.source})"),
         description=f"gamma/2pi, {nuc.condition}", role=role, provenance=prov,
         note="; ".join(x for x in (nuc.note, sign) if x))
     meta = {"kind": "nmr-field", "nucleus": nuc.name, "codata": ctx.codata, "reference_condition": nuc.condition,
