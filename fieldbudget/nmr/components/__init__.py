@@ -251,8 +251,8 @@ def validate(description, where: str = "measurement") -> None:
 
 
 def _plain_json(obj):
-    if hasattr(obj, "items"):
-        return {str(k): _plain_json(v) for k, v in obj.items()}
+    if hasattr(obj, "items"):  # a key set to null is a key left out, for the loader and so for the schema
+        return {str(k): _plain_json(v) for k, v in obj.items() if v is not None}
     if isinstance(obj, (list, tuple)):
         return [_plain_json(v) for v in obj]
     return obj
