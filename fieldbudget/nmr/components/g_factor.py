@@ -25,8 +25,7 @@ def _build(ctx: Context) -> Built | None:
                       role="lab_characterisation"),
         InputQuantity("g_e", ge.value, Normal(u=ge.uncertainty), unit="", reference="electron g factor",
                       source=f"{edition_label(ge)}: {ge.name}", description="free-electron g-factor",
-                      note="CODATA gives g_e < 0; the model uses -g_e", role="reference_constant",
-                      provenance={"codata_name": "electron g factor", "edition": edition_label(ge)}),
+                      note="CODATA gives g_e < 0; the model uses -g_e"),
     )
     return Built(inputs=qs, terms=(Term("denominator", "(g_s / " + ("(-g_e)" if ge.value < 0 else "g_e") + ")"),))
 

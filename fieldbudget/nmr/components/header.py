@@ -38,7 +38,7 @@ def _build(ctx: Context) -> Built:
     ref_name = nuc.reference if nuc.kind in ("codata", "electron") else rv.name if nuc.kind == "derived" else None
     sign = "the magnitude of a negative tabulated ratio is used" if rv.value < 0 else ""
     if ref_name and nuc.kind != "derived":
-        role, prov = "reference_constant", {"codata_name": ref_name, "edition": edition_label(rv)}
+        role, prov = "", {}  # engine.traceability derives it from the CODATA reference
     else:
         role, prov = "published_data", {"citation": f"{edition_label(rv)}: {rv.source}"}
     q = InputQuantity(

@@ -66,7 +66,7 @@ def _build(ctx: Context) -> Built | None:
         f = Finding(f"the line-centre noise (u = {u:.3g} Hz) is taken as already in the scatter of the {n_read} "
                     "repeated readings and is not added again; set line.noise_in_readings to false if the "
                     "readings are not independent locations of the line", code="nmr.line_in_readings", key=key,
-                    values={"u_line_Hz": u, "readings": n_read, "noise_in_readings": True})
+                    values={"u_line_Hz": u, "readings": n_read, "noise_in_readings": True}, severity="note")
         return Built(findings=(f,))
     q = InputQuantity("d_line", 0.0, Normal(u=u), unit="Hz", description=_DESC, source=how,
                       role="lab_characterisation")

@@ -69,24 +69,24 @@ def _build(ctx: Context) -> Built | None:
             raise sample.fail("susceptibility", f"missing: nucleus {nuc.name!r} has no default sample "
                               "susceptibility; give the SI volume susceptibility of the sample")
         chi, u_chi, src_chi, role = 0.0, 0.0, "stated sample susceptibility", "lab_characterisation"
-    qs.append(InputQuantity("chi", chi, Normal(u=u_chi), unit="", source=src_chi, role=role,
-                            provenance={"citation": rv.source} if water else {},
+    referenced = water and u_chi == rv.uncertainty  # traceability then derives the role from the data
+    qs.append(InputQuantity("chi", chi, Normal(u=u_chi), unit="", source=src_chi, role="" if referenced else role,
+                            provenance={"citation": rv.source} if water and not referenced else {},
                             description="SI volume magnetic susceptibility of the sample",
-                            reference=CHI if water and u_chi == rv.uncertainty else None))
+                            reference=CHI if referenced else None))
     t_sym = ctx.facts.get("t_sym")
     factor = "(1 + chi * (1/3 - N_d))"
     if water and t_sym is not None:
         # the water susceptibility's own temperature dependence (a bound with estimate 0 in the data)
         tc, t_chi = constants.lookup_other(CHI_TC), constants.lookup_other(CHI_T)
         qs.append(InputQuantity("c_chi", tc.value, Normal(u=tc.uncertainty), unit="1/K",
-                                source=f"{tc.edition}: {tc.source}", role="published_data",
-                                provenance={"citation": tc.source},
+                                source=f"{tc.edition}: {tc.source}",
                                 description="relative temperature coefficient of the water susceptibility",
                                 note="the data state a rectangular bound; carried by its standard uncertainty",
                                 reference=CHI_TC))
         qs.append(InputQuantity("t_chi", t_chi.value, Normal(u=0.0), unit="degC", source=t_chi.source,
                                 description="temperature at which the water susceptibility is given",
-                                reference=CHI_T, role="convention"))
+                                reference=CHI_T))
         factor = f"(1 + chi * (1 + c_chi * ({t_sym} - t_chi)) * (1/3 - N_d))"
     ctx.facts["shape"] = {"shape": shape, "N_d": n, "chi": chi,
                           "axis": sample.choice("axis", ("parallel", "perpendicular")),

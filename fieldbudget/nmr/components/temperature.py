@@ -60,12 +60,10 @@ def _build(ctx: Context) -> Built | None:
         InputQuantity("alpha_T", alpha.value, Normal(u=alpha.uncertainty), unit="1/K",
                       source=f"{alpha.edition}: {alpha.source}",
                       description="temperature coefficient of the proton shielding in a water sphere",
-                      note=f"valid {alpha.valid_from:g} to {alpha.valid_to:g} degC", reference=ALPHA,
-                      role="published_data", provenance={"citation": alpha.source}),
+                      note=f"valid {alpha.valid_from:g} to {alpha.valid_to:g} degC", reference=ALPHA),
         t_q,
         InputQuantity("t_ref", t_ref.value, Normal(u=0.0), unit="degC", source=t_ref.source,
-                      description="reference temperature of gamma'_p (exact by convention)", reference=T_REF,
-                      role="convention"),
+                      description="reference temperature of gamma'_p (exact by convention)", reference=T_REF),
     )
     ctx.facts["t_sym"] = "t_s"
     return Built(inputs=qs, terms=(Term("denominator", "(1 - alpha_T * (t_s - t_ref))"),), findings=findings)
