@@ -40,8 +40,8 @@ SCHEMA_ID = "https://fieldbudget.invalid/schema/nmr-measurement-1.json"
 #: The shipped schema (generated from the declarations by :func:`schema_text`; a test keeps them equal).
 SCHEMA_PATH = Path(__file__).resolve().parents[1] / "nmr-measurement.schema.json"
 
-_MODULES = ("header", "g_factor", "shielding", "frequency", "line", "timebase", "drift", "temperature", "shape",
-            "detection", "probe_perturbation", "position", "curvature", "probe")
+_MODULES = ("header", "g_factor", "shielding", "frequency", "line", "trace", "timebase", "drift", "temperature",
+            "shape", "detection", "probe_perturbation", "position", "field_map", "curvature", "probe")
 
 _extra: list[Component] = []
 
@@ -123,6 +123,7 @@ def build_budget(m) -> tuple[Budget, tuple]:
     terms: dict[str, list[str]] = {p: [] for p in PLACES}
     findings: list = []
     meta: dict = {}
+    correlations: list = []
     for c in components():
         built = c.build(ctx)
         if built is None:
@@ -132,6 +133,7 @@ def build_budget(m) -> tuple[Budget, tuple]:
             terms[t.place].append(t.expr)
         findings.extend(built.findings)
         meta.update(built.metadata)
+        correlations.extend(built.correlations)
     if ctx.facts.get("gamma_note"):
         q0 = ctx.inputs[0]
         ctx.inputs[0] = q0.replace(note="; ".join(x for x in (q0.note, ctx.facts["gamma_note"]) if x))
@@ -142,7 +144,7 @@ def build_budget(m) -> tuple[Budget, tuple]:
                         measurand=Measurand("B0", "T", "flux density at the reference point, before the probe is "
                                                        "inserted"),
                         coverage_probability=p_cov, title=top.text("title", "NMR field measurement"), metadata=meta,
-                        second_order=bool(ctx.facts.get("second_order")))
+                        correlations=tuple(correlations), second_order=bool(ctx.facts.get("second_order")))
     except InputError as err:  # pragma: no cover - the description was checked above
         raise BudgetFileError(m.where, "#", f"{err.field} must be {err.allowed} (got {err.value!r})") from None
     return budget, tuple(findings)
@@ -156,8 +158,9 @@ def _equation(terms: dict[str, list[str]]) -> str:
         num += f" * (1 + {d})"
     expr = f"{num} / ({' * '.join(terms['denominator'])})"
     sub = terms["subtract"]
-    pos = [s for s in sub if not s.startswith("0.5 * B2")]
-    rest = [s for s in sub if s.startswith("0.5 * B2")]
+    # the position terms (G_x * x_off, ...) together in one bracket, then each other term on its own
+    pos = [s for s in sub if "_off" in s and not s.startswith("(")]
+    rest = [s for s in sub if s not in pos]
     if pos:
         expr += f" - ({' + '.join(pos)})" if len(pos) > 1 else f" - {pos[0]}"
     for s in rest:

@@ -93,12 +93,13 @@ class Term:
 
 @dataclass(frozen=True)
 class Built:
-    """What one component's build step gives: inputs, terms, findings and metadata entries."""
+    """What one component's build step gives: inputs, terms, findings, metadata entries and correlations."""
 
     inputs: tuple[InputQuantity, ...] = ()
     terms: tuple[Term, ...] = ()
     findings: tuple[Finding, ...] = ()
     metadata: Mapping = field(default_factory=dict)
+    correlations: tuple = ()  # (symbol_a, symbol_b, r) between this component's inputs
 
 
 @dataclass(frozen=True)

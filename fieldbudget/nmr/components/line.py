@@ -44,6 +44,8 @@ def _build(ctx: Context) -> Built | None:
     if not ctx.present("line"):
         return None
     ln = ctx.section("line")
+    if ln.has("trace_csv"):
+        return None  # the trace component gives d_line
     ln.number("fwhm_Hz", positive=True)
     ln.number("natural_fwhm_Hz", positive=True)
     ln.number("max_broadening_ratio", positive=True)
