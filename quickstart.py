@@ -7,6 +7,7 @@ usage: python3 quickstart.py {lab,report,test} [pytest options]
              workspace/: your copies of the templates (the shipped ones are never edited), the examples
              and the demo output. Ctrl-C stops JupyterLab.
     report   only the headless demo: budget, record and reports into demo-output/
+             (both replace the previous demo's files there: that folder is the demo's own)
     test     the whole test suite (what CI runs); as root it installs Debian's chromium for the
              browser tests first, and says so
 
@@ -93,7 +94,7 @@ def prepare_workspace() -> Path:
 
 def cmd_report() -> int:
     ensure_venv("jupyter")
-    return _run([PY, "-m", "fieldbudget", "demo", "--out", DEMO_OUT.name])
+    return _run([PY, "-m", "fieldbudget", "demo", "--out", DEMO_OUT.name, "--replace"])
 
 
 def cmd_lab() -> int:

@@ -29,6 +29,8 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
                                    "to DIR and print their paths. The data is invented for the demo.")
     p.add_argument("--out", default="fieldbudget-demo", metavar="DIR",
                    help="folder to write into (made if missing; default: ./fieldbudget-demo)")
+    p.add_argument("--replace", action="store_true",
+                   help="write over the demo files (record included) a previous demo left in DIR")
     p.add_argument("--trials", type=int, default=TRIALS, metavar="M",
                    help=f"Monte Carlo trials for the record (default {TRIALS}; 0 for none)")
     return p
@@ -53,6 +55,15 @@ def run(args: argparse.Namespace) -> int:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as err:
         raise InputError("--out", str(out), f"a folder that can be written ({err.strerror or err})", "demo") from None
+
+    names = ["demo-measurement.json", "demo-budget.json", "demo-record.json", "demo-acceptance.json"]
+    names += [f"demo-report.{SUFFIX.get(fmt, fmt)}" for fmt in FORMATS]
+    if not args.replace:
+        left = [n for n in names if (out / n).exists()]
+        if left:
+            raise InputError("--out", str(out), f"a folder without a previous demo's files (it holds {left[0]}"
+                             f"{f' and {len(left) - 1} more' if len(left) > 1 else ''}); add --replace to "
+                             "write over them", "demo")
 
     procedure_run = demo_run()
     proc = procedure_run.procedure

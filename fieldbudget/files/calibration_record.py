@@ -67,25 +67,9 @@ def _utc_now() -> str:
 
 def _plain(x: Any, where: str = "#") -> Any:
     """Plain JSON types; infinite numbers become None (infinite degrees of freedom), NaN is refused."""
-    if x is None or isinstance(x, (bool, str)):
-        return x
-    if isinstance(x, int):
-        return int(x)
-    if isinstance(x, float):
-        if math.isnan(x):
-            raise RecordError(f"{where}: NaN cannot be stored in a record")
-        return None if math.isinf(x) else float(x)
-    if isinstance(x, Mapping):
-        return {str(k): _plain(v, f"{where}/{k}") for k, v in x.items()}
-    if isinstance(x, (list, tuple)):
-        return [_plain(v, f"{where}/{i}") for i, v in enumerate(x)]
-    item = getattr(x, "item", None)
-    if callable(item):
-        return _plain(item(), where)
-    tolist = getattr(x, "tolist", None)
-    if callable(tolist):
-        return _plain(tolist(), where)
-    raise RecordError(f"{where}: a {type(x).__name__} cannot be stored in a record (plain JSON values only)")
+    from .record import _jsonable
+
+    return _jsonable(x, where, infinite_as_none=True)
 
 
 def _canonical(doc: Mapping) -> bytes:
@@ -245,11 +229,8 @@ def _seal(doc: dict, sign: Any) -> CalibrationRecord:
 
 
 def _signature(digest: str, key: Any) -> dict:
-    try:
-        from . import signing  # type: ignore[attr-defined]
-    except ImportError:
-        raise InputError("sign", str(key), "a signing key, but record signing is not available in this "
-                         "installation", "make_record") from None
+    from . import signing
+
     if isinstance(key, (str, Path)):
         key = signing.load_signing_key(key)
     return dict(signing.sign_digest(key, digest))
@@ -417,15 +398,6 @@ def save_calibration_record(record: CalibrationRecord, path: str | Path) -> Path
     return atomic_write_text(path, serialise(record))
 
 
-def _no_duplicates(pairs):
-    d = {}
-    for k, v in pairs:
-        if k in d:
-            raise ValueError(f"duplicate key {k!r}")
-        d[k] = v
-    return d
-
-
 def parse_document(doc: Mapping, where: str) -> CalibrationRecord:
     """Check a parsed record document of one of these kinds against the schema."""
     import jsonschema
@@ -451,16 +423,9 @@ def load_calibration_record(path: str | Path, *, check_digest: bool = True) -> C
         raise RecordError(f"{where}: no such record file") from None
     except OSError as err:
         raise RecordError(f"{where}: cannot read the record ({err.strerror})") from None
-    try:
-        doc = json.loads(data.decode("utf-8"), object_pairs_hook=_no_duplicates,
-                         parse_constant=lambda c: (_ for _ in ()).throw(ValueError(f"{c} is not allowed")))
-    except UnicodeDecodeError as err:
-        raise RecordError(f"{where}: damaged record: byte {err.start} is not UTF-8 text") from None
-    except json.JSONDecodeError as err:
-        raise RecordError(f"{where}: damaged record: not valid JSON at line {err.lineno}, column {err.colno} "
-                          f"({err.msg})") from None
-    except ValueError as err:
-        raise RecordError(f"{where}: damaged record: {err}") from None
+    from .record import record_json
+
+    doc = record_json(data, where)
     if not isinstance(doc, dict) or doc.get("kind") not in KINDS:
         raise RecordError(f"{where}: not a calibration or several-output record (kind "
                           f"{doc.get('kind') if isinstance(doc, dict) else None!r})")
@@ -507,7 +472,7 @@ def _diffs(a: Any, b: Any, path: str, out: list[str], tol: float | None, skip_te
 def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted: Any = None) -> Any:
     """Re-check a calibration or several-output record: digest, file form, signatures, and every result
     recomputed from the recorded content (bit for bit with the recorded seed, generator and numpy)."""
-    from .record import Check, VerifyResult, software_versions
+    from .record import Check, VerifyResult, signature_checks, software_versions
 
     checks: list = []
     where = ""
@@ -526,7 +491,8 @@ def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted
     computed = record.computed_digest()
     checks.append(Check("digest", "pass", f"SHA-256 {computed}") if computed == record.digest else
                   Check("digest", "fail", f"stored {record.digest or '(none)'} but the content gives {computed}"))
-    checks += _signature_checks(record, trusted)
+    sig_checks, sig_results = signature_checks(record.signatures, computed, trusted)
+    checks += sig_checks
     doc = record.to_dict()
     then = doc.get("software") or {}
     same_stream = then.get("numpy") == software_versions().get("numpy")
@@ -539,7 +505,7 @@ def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted
             fresh = _several_output_results(doc)
     except FieldbudgetError as err:
         checks.append(Check("re-evaluation", "fail", f"the recorded content no longer evaluates: {err}"))
-        return VerifyResult(tuple(checks), where)
+        return VerifyResult(tuple(checks), where, sig_results, trusted is not None)
     mc = (doc.get("results") or {}).get("monte_carlo")
     trials = int(mc["trials"]) if isinstance(mc, Mapping) and mc.get("trials") else None
     # Another numpy may draw another stream: then compare within 8/sqrt(M) relative (common practice).
@@ -559,7 +525,7 @@ def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted
     moved = [f"{k} {then.get(k)} -> {now.get(k)}" for k in ("fieldbudget", "numpy", "scipy") if then.get(k) != now.get(k)]
     checks.append(Check("software", "info", "same versions as recorded" if not moved
                         else "versions differ from the record: " + ", ".join(moved)))
-    return VerifyResult(tuple(checks), where)
+    return VerifyResult(tuple(checks), where, sig_results, trusted is not None)
 
 
 def _several_output_results(doc: Mapping) -> dict:
@@ -578,25 +544,6 @@ def _several_output_results(doc: Mapping) -> dict:
         mc_d = _mc.run(budget, trials=int(mc_s["trials"]), seed=int(mc_s["seed"])).to_dict()
     return _plain({"gum": evaluate(budget).to_dict(), "monte_carlo": mc_d})
 
-
-def _signature_checks(record: CalibrationRecord, trusted: Any) -> list:
-    from .record import Check
-
-    sigs = record.signatures
-    if not sigs:
-        return [Check("signatures", "info", "the record is not signed")]
-    try:
-        from . import signing  # type: ignore[attr-defined]
-    except ImportError:
-        return [Check("signatures", "info", f"{len(sigs)} signature(s); this installation cannot check them")]
-    keys = signing.load_trusted(trusted) if trusted is not None else None
-    out = []
-    for s in sigs:
-        c = signing.check_signature(s, record.digest, keys)
-        ok = bool(getattr(c, "valid", False))
-        out.append(Check(f"signature {s.get('name')} ({s.get('role')})", "pass" if ok else "fail",
-                         str(getattr(c, "detail", "") or ("valid" if ok else "not valid"))))
-    return out
 
 
 def _file_checks(doc: Mapping, where: str) -> list:

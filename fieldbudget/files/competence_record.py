@@ -249,7 +249,7 @@ def verify_document(doc: SignedDocument | str | os.PathLike, *, trusted: Any = N
     ``trusted`` is a folder of ``.pub`` files or a mapping fingerprint -> key,
     as for :func:`fieldbudget.files.record.verify_record`.
     """
-    from .record import _signature_checks
+    from .record import signature_checks
 
     checks: list[Check] = []
     where = ""
@@ -266,14 +266,7 @@ def verify_document(doc: SignedDocument | str | os.PathLike, *, trusted: Any = N
     checks.append(Check("digest", "pass", f"SHA-256 {computed}") if computed == doc.digest else
                   Check("digest", "fail", f"stored {doc.digest or '(none)'} but the content gives {computed}"))
 
-    class _Shim:  # _signature_checks reads these two attributes of a record
-        signatures = doc.signatures
-
-        @staticmethod
-        def computed_digest() -> str:
-            return computed
-
-    sig_checks, results = _signature_checks(_Shim, trusted)
+    sig_checks, results = signature_checks(doc.signatures, computed, trusted)
     checks.extend(c for c in sig_checks if not c.detail.startswith("UNSIGNED"))
     subject = _subject(doc)
     for role, name, words in _rules(doc):

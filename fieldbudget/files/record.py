@@ -120,24 +120,29 @@ def _thaw(x: Any) -> Any:
     return x
 
 
-def _jsonable(x: Any, where: str) -> Any:
-    """Plain JSON types only; numpy scalars become Python numbers; NaN/inf are refused."""
+def _jsonable(x: Any, where: str, *, infinite_as_none: bool = False) -> Any:
+    """Plain JSON types only; numpy scalars and arrays become Python numbers and lists; NaN is refused,
+    and so is an infinite number unless ``infinite_as_none`` (infinite degrees of freedom stored as null)."""
     if x is None or isinstance(x, (bool, str)):
         return x
     if isinstance(x, int):
         return int(x)
     if isinstance(x, float):
+        if math.isinf(x) and infinite_as_none:
+            return None
         if not math.isfinite(x):
             raise RecordError(f"{where}: {x!r} cannot be stored in a record (finite numbers only; infinite dof is null)")
         return float(x)
     if isinstance(x, Mapping):
-        return {str(k): _jsonable(v, f"{where}/{k}") for k, v in x.items()}
+        return {str(k): _jsonable(v, f"{where}/{k}", infinite_as_none=infinite_as_none) for k, v in x.items()}
     if isinstance(x, (list, tuple)):
-        return [_jsonable(v, f"{where}/{i}") for i, v in enumerate(x)]
-    # numpy scalars and the like, without importing numpy here
-    item = getattr(x, "item", None)
+        return [_jsonable(v, f"{where}/{i}", infinite_as_none=infinite_as_none) for i, v in enumerate(x)]
+    # numpy arrays and scalars, without importing numpy here
+    tolist, item = getattr(x, "tolist", None), getattr(x, "item", None)
+    if callable(tolist) and getattr(x, "ndim", 0):
+        return _jsonable(tolist(), where, infinite_as_none=infinite_as_none)
     if callable(item):
-        return _jsonable(item(), where)
+        return _jsonable(item(), where, infinite_as_none=infinite_as_none)
     raise RecordError(f"{where}: a {type(x).__name__} cannot be stored in a record (plain JSON values only)")
 
 
@@ -567,9 +572,6 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
                          procedure=procedure, created_utc=created_utc, previous=previous)
     if hooked is not None:
         if sign is not None:
-            if not isinstance(hooked, Record):
-                raise InputError("sign", str(sign), "left out for a calibration record (its signing is not "
-                                 "supported yet)", "make_record")
             hooked = sign_record(hooked, sign, passphrase=passphrase)
         return hooked
     for name, value in (("operator", operator), ("remarks", remarks), ("reason", reason)):
@@ -692,10 +694,11 @@ def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time
     """
     from dataclasses import replace
 
+    from . import calibration_record as cr
     from .signing import sign_digest
 
-    if not isinstance(record, Record):
-        raise InputError("record", type(record).__name__, "a Record", "sign_record")
+    if not isinstance(record, (Record, cr.CalibrationRecord)):
+        raise InputError("record", type(record).__name__, "a Record or a CalibrationRecord", "sign_record")
     k = _signing_key(key, passphrase)
     if not record.digest_ok():
         raise DigestMismatch("not signed: the record's digest does not match its content (it was changed after it "
@@ -704,6 +707,8 @@ def sign_record(record: Record, key: Any, *, passphrase: str | None = None, time
         if s.get("fingerprint") == k.fingerprint and s.get("role") == k.role:
             raise InputError("key", f"{k.name} ({k.role})", "a key that has not signed this record in this role yet",
                              "sign_record")
+    if isinstance(record, cr.CalibrationRecord):
+        return cr.sign_calibration_record(record, k)
     entry = sign_digest(k, record.digest, time)
     return replace(record, signatures=(*record.signatures, _freeze(entry)))
 
@@ -734,15 +739,20 @@ def _pointer(parts) -> str:
     return "#/" + "/".join(str(p) for p in parts) if parts else "#"
 
 
-def parse_record_text(data: bytes, where: str) -> dict:
-    """Parse and check record bytes; return the document.  Raises RecordError subclasses."""
+def record_json(data: bytes, where: str) -> object:
+    """The JSON value of a record file's bytes, read strictly; a damaged file raises RecordError."""
     if not data.strip():
         raise RecordError(f"{where}: the file is empty: not a record (damaged, or the save never finished?)")
     try:
-        doc = parse_json(data, where, what="record")
+        return parse_json(data, where, what="record")
     except BudgetFileError as err:
         at = f", at {err.pointer}" if err.pointer else ""
         raise RecordError(f"{where}: damaged record{at}: {err.reason}") from None
+
+
+def parse_record_text(data: bytes, where: str) -> dict:
+    """Parse and check record bytes; return the document.  Raises RecordError subclasses."""
+    doc = record_json(data, where)
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")
@@ -1019,13 +1029,16 @@ def _read_for_verify(path: str | Path) -> bytes:
         raise RecordError(f"{path}: cannot read the record ({err.strerror or type(err).__name__})") from None
 
 
-def _signature_checks(record: Record, trusted: str | Path | Mapping | None) -> tuple[list[Check], tuple]:
+def signature_checks(signatures, content_digest: str,
+                     trusted: str | Path | Mapping | None) -> tuple[list[Check], tuple]:
+    """One :class:`Check` per signature entry over ``content_digest`` (the digest the content gives,
+    not the stored one), plus the signature results; used for every kind of record."""
     from .signing import check_signature, load_trusted
 
     keys = None
     if trusted is not None:
         keys = dict(trusted) if isinstance(trusted, Mapping) else load_trusted(trusted)
-    results = tuple(check_signature(_thaw(s), record.computed_digest(), keys) for s in record.signatures)
+    results = tuple(check_signature(_thaw(s), content_digest, keys) for s in signatures)
     checks = []
     if not results:
         checks.append(Check("signatures", "info", "UNSIGNED: nobody signed this record; the digest protects it "
@@ -1062,7 +1075,7 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
 
     if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
                                                     cr.record_kind(record) in cr.KINDS):
-        return cr.verify_calibration_record(record)
+        return cr.verify_calibration_record(record, trusted=trusted)
     if isinstance(record, training.SignedDocument) or (isinstance(record, (str, Path)) and
                                                        training.document_format(record) in training.FORMATS):
         return training.verify_document(record, trusted=trusted)
@@ -1087,7 +1100,7 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
         checks.append(Check("digest", "pass", f"SHA-256 {computed}"))
     else:
         checks.append(Check("digest", "fail", f"stored {record.digest or '(none)'} but the content gives {computed}"))
-    sig_checks, sig_results = _signature_checks(record, trusted)
+    sig_checks, sig_results = signature_checks(record.signatures, computed, trusted)
     checks.extend(sig_checks)
 
     from ..engine import Budget, evaluate

@@ -104,7 +104,10 @@ def _expect_seen(locator, timeout: int = 30_000) -> None:
 def _open_lab(page, jupyter_lab, name: str) -> None:
     from playwright.sync_api import expect
 
-    page.goto(f"{jupyter_lab['base']}/lab/tree/templates/{name}.ipynb?token={jupyter_lab['token']}")
+    # a workspace of its own: the shared server would otherwise restore the previous test's notebook,
+    # whose kernel reads idle and which the Run menu may then act on
+    page.goto(f"{jupyter_lab['base']}/lab/workspaces/{name}/tree/templates/{name}.ipynb"
+              f"?token={jupyter_lab['token']}")
     # the status-bar kernel item, not the toolbar indicator (which reads idle before a kernel exists)
     expect(page.get_by_role("button", name=re.compile(r"^Python 3 \(ipykernel\) \| Idle$"))).to_be_visible(
         timeout=90_000)

@@ -100,7 +100,7 @@ def test_signed_at_creation_and_checked_by_verify(tmp_path):
     assert signed.digest == r.digest and len(signed.signatures) == 1
     path = save_record(signed, tmp_path / "s.json")
     v = verify_record(path)
-    assert v.passed and any(c.name.startswith("signature I. Marchetti") and c.status == "pass" for c in v.checks)
+    assert v.passed and any(c.name.startswith("signature of I. Marchetti") and c.status == "pass" for c in v.checks)
     doc = signed.to_dict()
     doc["signatures"][0]["role"] = "operator"  # the signed details changed: the signature no longer holds
     path.write_text(serialise(CalibrationRecord(doc)))

@@ -215,3 +215,35 @@ def test_single_byte_change_in_signature_base64_tail_is_caught(signed, keys, tmp
     p = save_record(dataclasses.replace(signed, signatures=tuple(sigs)), tmp_path / "r.json")
     assert not verify_record(p, trusted=keys["dir"]).passed
     assert os.path.exists(p)
+
+
+# -- calibration records take the same signatures and the same trusted-key check -------------------
+
+def test_calibration_record_signed_countersigned_and_checked_against_trusted_keys(tmp_path, capsys):
+    """ISO/IEC 17025:2017 7.5 (attributable records): a calibration record is signed by its operator with
+    `calibrate`/`record --sign`, countersigned with `fieldbudget sign`, and `verify --trusted` names both."""
+    from pathlib import Path
+
+    example = Path(__file__).resolve().parents[2] / "examples" / "data" / "calibration-LMCL-C-2026-0419.json"
+    trusted = tmp_path / "keys"
+    trusted.mkdir()
+    op = new_key("R. Okafor", "operator", trusted / "okafor.key")
+    new_key("L. Brandt", "approver", trusted / "brandt.key")
+    new_key("M. Unknown", "approver", tmp_path / "stranger.key")
+    rec = tmp_path / "cal.json"
+    assert main(["record", str(example), "-o", str(rec), "--sign", str(trusted / "okafor.key")]) == 0
+    assert main(["sign", str(rec), "--key", str(trusted / "brandt.key")]) == 0
+    assert main(["sign", str(rec), "--key", str(trusted / "brandt.key")]) == 2   # the same key, the same role
+    capsys.readouterr()
+    assert main(["verify", str(rec), "--trusted", str(trusted), "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert [(s["name"], s["role"], s["valid"]) for s in out["signatures"]] == [
+        ("R. Okafor", "operator", True), ("L. Brandt", "approver", True)]
+    assert load_record(rec).signatures[0]["fingerprint"] == op.fingerprint
+
+    # a countersignature from a key outside the trusted folder fails the check that names it
+    assert main(["sign", str(rec), "--key", str(tmp_path / "stranger.key")]) == 0
+    capsys.readouterr()
+    assert main(["verify", str(rec), "--trusted", str(trusted)]) == 1
+    assert "M. Unknown" in capsys.readouterr().out
+    assert verify_record(rec).passed                     # intact, when no trusted list is asked for

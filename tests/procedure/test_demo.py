@@ -65,3 +65,18 @@ def test_demo_command_bad_out_is_one_line(tmp_path, capsys):
     assert main(["demo", "--out", str(blocker / "sub")]) == 2
     err = capsys.readouterr().err.strip()
     assert err.startswith("fieldbudget demo: demo: --out must be a folder that can be written") and "\n" not in err
+
+
+def test_demo_command_keeps_a_previous_demo_unless_told(tmp_path, capsys):
+    """No command overwrites a record unless told to: a second demo into the same folder is refused."""
+    from fieldbudget.cli import main
+
+    out = tmp_path / "demo"
+    assert main(["demo", "--out", str(out), "--trials", "0"]) == 0
+    before = (out / "demo-record.json").read_bytes()
+    capsys.readouterr()
+    assert main(["demo", "--out", str(out), "--trials", "0"]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "add --replace" in err and "demo-measurement.json" in err and "\n" not in err
+    assert (out / "demo-record.json").read_bytes() == before
+    assert main(["demo", "--out", str(out), "--trials", "0", "--replace"]) == 0
