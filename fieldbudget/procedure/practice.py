@@ -35,8 +35,8 @@ from pathlib import Path
 from typing import Any
 
 from .. import _display
-from ..errors import BudgetFileError, FieldbudgetError, InputError
-from .procedure import RESULT_QUANTITIES, Component, Procedure, Training, _path_text
+from ..errors import BudgetFileError, InputError
+from .procedure import RESULT_QUANTITIES, Component, Procedure, Training, _path_text, _plain
 from .run import ProcedureRun, _parse, result_quantities
 
 __all__ = [
@@ -81,14 +81,6 @@ _RATIO_WORDS = (
 def _schema() -> dict:
     text = resources.files(__package__).joinpath("data/practice.schema.json").read_text("utf-8")
     return json.loads(text)
-
-
-def _plain(v: Any) -> Any:
-    if isinstance(v, (list, tuple)):
-        return [_plain(x) for x in v]
-    if isinstance(v, float) and not math.isfinite(v):
-        return None
-    return v
 
 
 def _words(v: Any, unit: str = "") -> str:
