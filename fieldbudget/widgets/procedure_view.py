@@ -7,7 +7,8 @@ NMR layer builds and evaluates the budget.
 
 Stable CSS classes (for lab style sheets and the browser test):
 
-``fb-proc`` (the whole app), ``fb-proc-header``, ``fb-proc-safety``,
+``fb-proc`` (the whole app), ``fb-proc-header``, ``fb-proc-authorisation``
+(who runs it, when checked at the start), ``fb-proc-safety``,
 ``fb-proc-steps`` (the list of steps), ``fb-proc-step-title``,
 ``fb-proc-instruction``, ``fb-proc-cautions``, ``fb-proc-back``,
 ``fb-proc-next``, ``fb-proc-training-toggle``, ``fb-proc-fields``,
