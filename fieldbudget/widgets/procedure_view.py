@@ -248,7 +248,8 @@ class ProcedureView:
             results = [section("Calibration result", self.u_text, self.status, self.outcome, self.curve,
                                cls="fb-proc-result"),
                        section("Budget of one point", self.budget, cls="fb-proc-point-budget")]
-        self.widget = css(w.VBox([style_widget(), self.header, self.authorisation, self.safety, self.steps_list, step_box, self.fixed,
+        self.widget = css(w.VBox([style_widget(), self.header, self.authorisation, self.safety, self.steps_list,
+                                  step_box, self.fixed,
                                   *results, section("Acceptance limits", self.acceptance, cls="fb-proc-limits"),
                                   section("Save", self.export, cls="fb-proc-save")]), "fb-proc")
         self._unsubscribe = run.subscribe(self._run_changed)
