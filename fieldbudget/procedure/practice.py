@@ -643,7 +643,7 @@ def _input_words(s: str, mine: dict, ref: dict) -> str:
     return f"{s} ({qr.description}): " + ", ".join(parts)
 
 
-def _diagnosis(decision: Decision, mine: Any, comp: Component) -> str:
+def _diagnosis(decision: Decision, mine: Any) -> str:
     a = decision.answer
     if not (isinstance(a, (int, float)) and isinstance(mine, (int, float))) or isinstance(a, bool):
         return ""
@@ -685,7 +685,7 @@ def _u_words(kind: str, unit: str, u_alt: float | None, u_ref: float | None) -> 
 def _compare(session: PracticeSession, reference: ProcedureRun) -> PracticeResult:
     proc, case, run = session.procedure, session.case, session.run
     kind = proc.kind
-    u_key, u_name = U_QUANTITY[kind]
+    u_key = U_QUANTITY[kind][0]
     u_unit = RESULT_QUANTITIES[kind][u_key]
     mine_q = result_quantities(kind, run.outcome)
     ref_q = result_quantities(kind, reference.outcome)
@@ -705,7 +705,7 @@ def _compare(session: PracticeSession, reference: ProcedureRun) -> PracticeResul
         u_text, u_eff = _u_words(kind, u_unit, result_quantities(kind, alone.outcome).get(u_key)
                                  if alone.current else None, ref_q.get(u_key))
         words = [f"you entered {_words(mine, comp.unit)}, the reference is {_words(d.answer, comp.unit)}"]
-        diag = _diagnosis(d, mine, comp)
+        diag = _diagnosis(d, mine)
         if diag:
             words.append(diag)
         if changed:
