@@ -111,6 +111,7 @@ def run(args: argparse.Namespace) -> int:
         print(f"no competence records{' for ' + args.person if args.person else ''} in {competence.root}")
         return 0
     for e in entries:
-        print(f"{e.person}  {e.procedure}  {e.status}; practice passed {e.practice_passed} of {e.practice_total}, "
-              f"supervised measurements {e.supervised}")
+        cases = f" ({', '.join(e.cases_passed)})" if e.cases_passed else ""
+        print(f"{e.person}  {e.procedure}  {e.status}; practice passed {e.practice_passed} of {e.practice_total}"
+              f"{cases}, supervised measurements {e.supervised}")
     return 0

@@ -71,6 +71,7 @@ class CompetenceEntry:
     date_from: str = ""
     until: str = ""
     lapsed: bool = False  # an authorisation exists but not for the day asked about
+    cases_passed: tuple[str, ...] = ()  # the practice cases passed, by id
 
     @property
     def status(self) -> str:
@@ -88,7 +89,7 @@ class CompetenceEntry:
                 "authorised_by": self.authorised_by, "from": self.date_from, "until": self.until,
                 "status": self.status,
                 "backed_by": {"practice_passed": self.practice_passed, "practice_total": self.practice_total,
-                              "supervised_measurements": self.supervised}}
+                              "cases_passed": list(self.cases_passed), "supervised_measurements": self.supervised}}
 
     def _repr_html_(self) -> str:
         return html_table(("person", "procedure", "status", "practice passed", "supervised"),
@@ -204,7 +205,9 @@ class Competence:
                 who, pid, sum(bool(d.content["practice"]["passed"]) for d in runs), len(runs),
                 sum(1 for op, p, _ in supervised if (op, p) == (who, pid)), bool(valid),
                 a.content["authorised_by"] if a else "", a.content["from"] if a else "",
-                a.content["until"] if a else "", lapsed=bool(mine) and not valid))
+                a.content["until"] if a else "", lapsed=bool(mine) and not valid,
+                cases_passed=tuple(sorted({d.content["practice"]["case"]["id"] for d in runs
+                                           if d.content["practice"]["passed"]}))))
         return tuple(out)
 
     def entry(self, person: str, procedure_id: str, day: Any = None) -> CompetenceEntry | None:

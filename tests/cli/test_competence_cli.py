@@ -43,7 +43,8 @@ def test_from_practice_to_authorisation_on_the_command_line(tmp_path, monkeypatc
                  "--json"]) == 0
     (entry,) = json.loads(capsys.readouterr().out)["entries"]
     assert entry["authorised"] and entry["authorised_by"] == MANAGER and entry["until"] == "2027-11-30"
-    assert entry["backed_by"] == {"practice_passed": 1, "practice_total": 1, "supervised_measurements": 0}
+    assert entry["backed_by"] == {"practice_passed": 1, "practice_total": 1, "cases_passed": ["gradient-trap"],
+                                  "supervised_measurements": 0}
     assert main(["competence", "list", "--lab", "lab", "--date", "2028-01-04"]) == 0
     assert "NOT authorised" in capsys.readouterr().out
     auth = next(Path("lab/competence/authorisations").glob("*.json"))
