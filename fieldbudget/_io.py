@@ -43,6 +43,7 @@ __all__ = [
     "decode_utf8",
     "parse_json",
     "read_json_file",
+    "read_object_file",
     "read_named_text",
     "allow_outside_files",
     "outside_files_allowed",
@@ -181,6 +182,25 @@ def read_json_file(path: str | os.PathLike, *, what: str = "file") -> object:
     """Read and parse a JSON file strictly; the error names ``path`` as the user gave it."""
     where = str(path)
     return parse_json(_read_bytes(path, where), where, what=what)
+
+
+def read_object_file(path: str | os.PathLike, *, what: str = "file", top: str = "an object") -> dict:
+    """Read a ``.toml`` file (the standard library's tomllib) or else a JSON file (strictly, as
+    :func:`read_json_file`) whose top level must be a table/object; ``top`` words what it holds."""
+    import tomllib
+
+    where = str(path)
+    data = _read_bytes(path, where)
+    if Path(path).suffix.lower() == ".toml":
+        try:
+            doc = tomllib.loads(decode_utf8(data, where))
+        except tomllib.TOMLDecodeError as err:
+            raise BudgetFileError(where, "", f"is not valid TOML ({err})") from None
+    else:
+        doc = parse_json(data, where, what=what)
+    if not isinstance(doc, dict):
+        raise BudgetFileError(where, "#", f"the top level must be {top}")
+    return doc
 
 
 _OUTSIDE = contextvars.ContextVar("fieldbudget_allow_outside_files", default=False)

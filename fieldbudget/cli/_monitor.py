@@ -12,10 +12,8 @@ from __future__ import annotations
 
 import argparse
 import json
-import tomllib
-from pathlib import Path
 
-from ..errors import BudgetFileError, InputError
+from ..errors import InputError
 from ..lab.archive import Archive
 from ..lab.monitoring import (
     chart_from_entries,
@@ -69,19 +67,9 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 
 def _read_doc(path: str) -> dict:
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as err:
-        raise BudgetFileError(str(p), "", f"cannot be read ({err})") from None
-    try:
-        doc = tomllib.loads(text) if p.suffix == ".toml" else json.loads(text)
-    except (tomllib.TOMLDecodeError, json.JSONDecodeError) as err:
-        raise BudgetFileError(str(p), "", f"is not valid {'TOML' if p.suffix == '.toml' else 'JSON'} ({err})") \
-            from None
-    if not isinstance(doc, dict):
-        raise BudgetFileError(str(p), "#", "the top level must be an object")
-    return doc
+    from .._io import read_object_file
+
+    return read_object_file(path)
 
 
 def run(args: argparse.Namespace) -> int:

@@ -61,7 +61,8 @@ def run(args: argparse.Namespace) -> int:
     if args.budget_out is not None:
         save_budget(result.budget, args.budget_out)
     if args.record_out:
-        from ..files.record import make_record, save_record
+        from ..files.measurement_record import make_measurement_record
+        from ..files.record import save_record
 
         if Path(args.record_out).exists():
             from ..errors import InputError
@@ -70,7 +71,10 @@ def run(args: argparse.Namespace) -> int:
                              "overwritten)", "fieldbudget nmr")
         remarks = "; ".join(f"{n.section}: {n.instrument} certificate {n.certificate} used after its due date "
                             f"{n.due}: {n.reason}" for n in notes if n.reason)
-        save_record(make_record(result.budget, operator=args.operator, remarks=remarks), args.record_out)
+        with allow_outside_files(args.allow_outside_files):  # the record keeps the measurement and its files
+            rec = make_measurement_record(description, where=args.file, base_dir=Path(args.file).parent,
+                                          operator=args.operator, remarks=remarks)
+        save_record(rec, args.record_out)
     if args.json:
         d = result.to_dict()
         if notes:

@@ -14,6 +14,7 @@ from ..errors import InputError
 from ..files.guard import check_output, same_file
 from ..files.measurement_record import record_file
 from ..files.record import load_record, save_record
+from ._labopts import add_register_options, resolve_measurement
 from ._passphrase import add_passphrase_option, load_key
 
 __all__ = ["add_parser", "run"]
@@ -40,6 +41,7 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
     p.add_argument("--reason", default="", help="why this revision was made (goes into the change log)")
     p.add_argument("--sign", metavar="KEY", default=None, help="sign the record with this private key file")
     add_passphrase_option(p)
+    add_register_options(p)
     return p
 
 
@@ -66,7 +68,8 @@ def run(args: argparse.Namespace) -> int:
     if key is not None:
         kw["sign"] = key
     rec = record_file(args.file, monte_carlo=args.monte_carlo, seed=args.seed, operator=args.operator,
-                      remarks=args.remarks, previous=previous, **kw)
+                      remarks=args.remarks, previous=previous,
+                      resolve=lambda doc, where: resolve_measurement(args, doc, where), **kw)
     path = save_record(rec, args.output)
     print(f"{path}: revision {rec.revision}, {rec.statement.split('. ')[0]}")
     if not hasattr(rec, "monte_carlo"):  # a calibration or several-output record

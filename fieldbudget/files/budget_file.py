@@ -13,7 +13,6 @@ from pathlib import Path
 
 from .._io import read_json_file
 from ..engine import Budget
-from ..errors import BudgetFileError
 from .atomic import atomic_write_text
 
 __all__ = ["load_budget", "save_budget", "read_json"]

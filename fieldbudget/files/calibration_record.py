@@ -398,15 +398,6 @@ def save_calibration_record(record: CalibrationRecord, path: str | Path) -> Path
     return atomic_write_text(path, serialise(record))
 
 
-def _no_duplicates(pairs):
-    d = {}
-    for k, v in pairs:
-        if k in d:
-            raise ValueError(f"duplicate key {k!r}")
-        d[k] = v
-    return d
-
-
 def parse_document(doc: Mapping, where: str) -> CalibrationRecord:
     """Check a parsed record document of one of these kinds against the schema."""
     import jsonschema
@@ -432,16 +423,9 @@ def load_calibration_record(path: str | Path, *, check_digest: bool = True) -> C
         raise RecordError(f"{where}: no such record file") from None
     except OSError as err:
         raise RecordError(f"{where}: cannot read the record ({err.strerror})") from None
-    try:
-        doc = json.loads(data.decode("utf-8"), object_pairs_hook=_no_duplicates,
-                         parse_constant=lambda c: (_ for _ in ()).throw(ValueError(f"{c} is not allowed")))
-    except UnicodeDecodeError as err:
-        raise RecordError(f"{where}: damaged record: byte {err.start} is not UTF-8 text") from None
-    except json.JSONDecodeError as err:
-        raise RecordError(f"{where}: damaged record: not valid JSON at line {err.lineno}, column {err.colno} "
-                          f"({err.msg})") from None
-    except ValueError as err:
-        raise RecordError(f"{where}: damaged record: {err}") from None
+    from .record import record_json
+
+    doc = record_json(data, where)
     if not isinstance(doc, dict) or doc.get("kind") not in KINDS:
         raise RecordError(f"{where}: not a calibration or several-output record (kind "
                           f"{doc.get('kind') if isinstance(doc, dict) else None!r})")

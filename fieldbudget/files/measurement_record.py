@@ -149,13 +149,20 @@ def make_measurement_record(description: Mapping, *, where: str = "measurement",
     return make_record(result.budget, details=d, **kw)
 
 
-def record_file(path: str | Path, **kw):
-    """The record of a budget, NMR measurement or calibration file, recognised by its ``format``."""
+def record_file(path: str | Path, *, resolve=None, **kw):
+    """The record of a budget, NMR measurement or calibration file, recognised by its ``format``.
+
+    ``resolve(description, where) -> (description, notes)`` fills in the register's instruments that an
+    NMR measurement file names (see :func:`fieldbudget.lab.register.resolve_instruments`); the record keeps
+    the resolved description, so that it verifies without the register.
+    """
     from .budget_file import read_json
     from .record import make_record
 
     doc = read_json(path)
     kind = document_kind(doc)
+    if kind == "nmr" and resolve is not None and isinstance(doc, dict):
+        doc, _ = resolve(doc, str(path))
     if kind == "nmr":
         return make_measurement_record(doc, where=str(path), base_dir=Path(path).parent, **kw)
     if kind == "calibration":  # recorded with its points, curve and conformity (files.calibration_record)

@@ -739,15 +739,20 @@ def _pointer(parts) -> str:
     return "#/" + "/".join(str(p) for p in parts) if parts else "#"
 
 
-def parse_record_text(data: bytes, where: str) -> dict:
-    """Parse and check record bytes; return the document.  Raises RecordError subclasses."""
+def record_json(data: bytes, where: str) -> object:
+    """The JSON value of a record file's bytes, read strictly; a damaged file raises RecordError."""
     if not data.strip():
         raise RecordError(f"{where}: the file is empty: not a record (damaged, or the save never finished?)")
     try:
-        doc = parse_json(data, where, what="record")
+        return parse_json(data, where, what="record")
     except BudgetFileError as err:
         at = f", at {err.pointer}" if err.pointer else ""
         raise RecordError(f"{where}: damaged record{at}: {err.reason}") from None
+
+
+def parse_record_text(data: bytes, where: str) -> dict:
+    """Parse and check record bytes; return the document.  Raises RecordError subclasses."""
+    doc = record_json(data, where)
     if not isinstance(doc, dict):
         raise RecordError(f"{where}: not a fieldbudget record (the file holds a JSON {type(doc).__name__}, "
                           "not an object)")
@@ -1066,10 +1071,14 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
     (d_low, d_high, delta, validated, advice).
     """
     from . import calibration_record as cr
+    from . import competence_record as training
 
     if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
                                                     cr.record_kind(record) in cr.KINDS):
         return cr.verify_calibration_record(record, trusted=trusted)
+    if isinstance(record, training.SignedDocument) or (isinstance(record, (str, Path)) and
+                                                       training.document_format(record) in training.FORMATS):
+        return training.verify_document(record, trusted=trusted)
     checks: list[Check] = []
     where = ""
     if isinstance(record, (str, Path)):

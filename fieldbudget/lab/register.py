@@ -27,7 +27,6 @@ from __future__ import annotations
 import copy
 import datetime as _dt
 import json
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import cache
@@ -222,21 +221,10 @@ def instrument_from_dict(doc: Mapping, where: str = "instrument") -> Instrument:
 
 def load_instrument(path: str | Path) -> Instrument:
     """Read one register file (``.toml`` or ``.json``)."""
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as err:
-        raise BudgetFileError(str(p), "", f"cannot be read ({err})") from None
-    try:
-        doc = tomllib.loads(text) if p.suffix == ".toml" else json.loads(text)
-    except tomllib.TOMLDecodeError as err:
-        raise BudgetFileError(str(p), "", f"is not valid TOML ({err})") from None
-    except json.JSONDecodeError as err:
-        raise BudgetFileError(str(p), "", f"is not valid JSON (line {err.lineno}, column {err.colno}: {err.msg})") \
-            from None
-    if not isinstance(doc, dict):
-        raise BudgetFileError(str(p), "#", "the top level must be an object (one instrument)")
-    return instrument_from_dict(doc, where=str(p))
+    from .._io import read_object_file
+
+    doc = read_object_file(path, top="an object (one instrument)")
+    return instrument_from_dict(doc, where=str(path))
 
 
 # ----------------------------------------------------------------------------

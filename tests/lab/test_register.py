@@ -65,6 +65,21 @@ def test_json_and_toml_entries_agree(tmp_path):
     assert a.to_dict() == b.to_dict()
 
 
+def test_json_entries_are_read_strictly(tmp_path, capsys):
+    """RFC 8259 4 leaves duplicate names undefined; a register entry (and a monitoring file) naming a
+    key twice is refused, naming the key, instead of keeping the last value silently."""
+    text = json.dumps(load_instrument(EXAMPLE_LAB / "register" / "FC-9.toml").to_dict())
+    p = tmp_path / "FC-9.json"
+    p.write_text(text[:-1] + ', "id": "FC-10"}', encoding="utf-8")
+    with pytest.raises(BudgetFileError, match="duplicate key 'id'"):
+        load_instrument(p)
+    scores = tmp_path / "scores.json"
+    scores.write_text('{"rounds": [], "rounds": []}', encoding="utf-8")
+    assert main(["monitor", "scores", str(scores)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "duplicate key 'rounds'" in err and "\n" not in err
+
+
 def test_a_due_date_before_the_certificate_is_refused(tmp_path):
     doc = load_instrument(EXAMPLE_LAB / "register" / "PX-4.toml").to_dict()
     doc["certificates"][0]["due"] = "2020-01-01"
@@ -162,6 +177,26 @@ def test_nmr_command_resolves_from_the_lab(capsys, tmp_path, monkeypatch):
     # a record is never overwritten
     assert main(["nmr", str(f), "--accept-expired", "PX-4=again", "--record-out", str(rec_path)]) == 2
     assert "never overwritten" in capsys.readouterr().err
+    # the record keeps the resolved measurement, so that verify re-builds it without the register
+    from fieldbudget.files.record import verify_record
+
+    check = verify_record(rec_path)
+    assert check.passed and any(c.name == "measurement" and c.status == "pass" for c in check.checks)
+
+
+def test_record_command_resolves_from_the_lab_like_nmr(capsys, tmp_path, monkeypatch):
+    """`fieldbudget record` of a measurement naming register instruments takes --lab and --accept-expired
+    as `fieldbudget nmr` does, and both give the same budget."""
+    monkeypatch.delenv("FIELDBUDGET_LAB", raising=False)
+    src = MEASUREMENTS / "LMCL-NMR-2026-07-21-01.json"
+    assert main(["record", str(src), "-o", str(tmp_path / "a.json")]) == 2
+    err = capsys.readouterr().err
+    assert "--lab" in err and len(err.strip().splitlines()) == 1
+    assert main(["record", str(src), "-o", str(tmp_path / "a.json"), "--lab", str(EXAMPLE_LAB)]) == 0
+    assert main(["nmr", str(src), "--lab", str(EXAMPLE_LAB), "--record-out", str(tmp_path / "b.json")]) == 0
+    a, b = load_record(tmp_path / "a.json"), load_record(tmp_path / "b.json")
+    assert a.budget == b.budget and a.gum == b.gum
+    assert a.budget["metadata"]["measurement_metadata"]["register"]
 
 
 def test_register_commands(capsys, tmp_path):
