@@ -13,10 +13,13 @@ Written by hand because no library knows this model.  The equation
 
     B0 = (f_read + d_res + d_line) (1 + y_tb + y_age) (1 + y_drift)
          / (gamma 1e6 [g_s/(-g_e)] [1 - sigma_s] [1 - alpha_T (t_s - t_ref)]
-            [1 + chi (1 + c_chi (t_s - t_chi)) (1/3 - N_d)] [1 + d_probe])
-         - (G_x x_off + G_y y_off + G_z z_off) - 0.5 B2 q_curv
+            [1 + chi (1 + c_chi (t_s - t_chi)) (1/3 - N_d)] [1 + d_det] [1 + d_probe])
+         - (G_x x_off + G_y y_off + G_z z_off [+ d_vol]) - 0.5 B2 q_curv
 
-with only the terms the description asks for.  Sign conventions:
+with only the terms the description asks for.  Each term is declared, with
+its keys, by one component of ``fieldbudget.nmr.components``; this module
+holds the measurement and result values and the warnings that need the
+evaluated result.  Sign conventions:
 f_true = f_read (1 + y) for a timebase running fast by y; the frequency falls
 as the water warms (Petley & Donaldson 1984); B_nuc = B0 [1 + chi (1/3 - N)];
 the probe's materials change the field at the sample to B0 (1 + d_probe);
