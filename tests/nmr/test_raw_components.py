@@ -90,3 +90,18 @@ def test_field_map_gives_gradient_and_volume_terms(tmp_path):
     assert r.standard_uncertainty == pytest.approx(math.hypot(u_pos, u_f), rel=0.02)
     with pytest.raises(BudgetFileError, match="not both"):
         NMRMeasurement.from_dict(dict(d, gradient_T_per_m=1e-4, offset_m=0.0), base_dir=tmp_path)
+
+
+def test_trace_beside_repeated_readings_follows_noise_in_readings(tmp_path):
+    rng = np.random.default_rng(12)
+    f = np.linspace(F0 - 40, F0 + 40, 401)
+    y = _lorentz(f, 1.0, F0, 8.0, 0.0) + rng.normal(0, 0.01, f.size)
+    (tmp_path / "sweep.csv").write_text("f_Hz,signal\n" + "".join(f"{a:.4f},{b:.6f}\n" for a, b in zip(f, y)))
+    d = {"frequency": {"readings_Hz": [F0 + 0.01, F0 - 0.02, F0 + 0.015]},
+         "sample": {"temperature_C": 25.0}, "line": {"trace_csv": "sweep.csv"}}
+    r = NMRMeasurement.from_dict(d, base_dir=tmp_path).evaluate()
+    assert "d_line" not in r.budget.symbols  # the fit's noise is in the three readings' scatter
+    assert [f.severity for f in r.findings if f.code == "nmr.line_in_readings"] == ["note"]
+    d["line"]["noise_in_readings"] = False
+    r2 = NMRMeasurement.from_dict(d, base_dir=tmp_path).evaluate()
+    assert "d_line" in r2.budget.symbols and any("counted twice" in w for w in r2.findings)

@@ -49,11 +49,7 @@ def _build(ctx: Context) -> Built | None:
     ln.number("fwhm_Hz", positive=True)
     ln.number("natural_fwhm_Hz", positive=True)
     ln.number("max_broadening_ratio", positive=True)
-    n_read = ctx.facts.get("readings", 0)
-    in_readings = ln.flag("noise_in_readings", n_read >= 2)
-    if in_readings and n_read < 2:
-        raise ln.fail("noise_in_readings", "can be true only when the frequency is given as repeated readings "
-                                           "(readings_Hz or readings_csv)")
+    in_readings = noise_in_readings(ctx, ln)
     if ln.has("u_Hz"):  # a stated u takes the place of the fit/FID bound
         u = ln.number("u_Hz", nonnegative=True)
         q = InputQuantity("d_line", 0.0, Normal(u=u), unit="Hz", description=_DESC, role="specification",
@@ -63,22 +59,39 @@ def _build(ctx: Context) -> Built | None:
     if part is None:
         return None
     u, how = part
-    key = "line.noise_in_readings"
+    finding = readings_finding(ctx, u, in_readings)
     if in_readings:
-        f = Finding(f"the line-centre noise (u = {u:.3g} Hz) is taken as already in the scatter of the {n_read} "
-                    "repeated readings and is not added again; set line.noise_in_readings to false if the "
-                    "readings are not independent locations of the line", code="nmr.line_in_readings", key=key,
-                    values={"u_line_Hz": u, "readings": n_read, "noise_in_readings": True}, severity="note")
-        return Built(findings=(f,))
+        return Built(findings=finding)
     q = InputQuantity("d_line", 0.0, Normal(u=u), unit="Hz", description=_DESC, source=how,
                       role="lab_characterisation")
-    finding = ()
-    if n_read >= 2:
-        finding = (Finding(f"the line-centre noise (u = {u:.3g} Hz) is added to the scatter of the {n_read} "
-                           "readings (line.noise_in_readings is false): it is counted twice if the readings are "
-                           "independent locations of the line", code="nmr.line_in_readings", key=key,
-                           values={"u_line_Hz": u, "readings": n_read, "noise_in_readings": False}),)
     return Built(inputs=(q,), terms=(Term("frequency", "d_line"),), findings=finding)
+
+
+def noise_in_readings(ctx: Context, ln) -> bool:
+    """``line.noise_in_readings``: default true when the frequency is repeated readings, else false."""
+    n_read = ctx.facts.get("readings", 0)
+    in_readings = ln.flag("noise_in_readings", n_read >= 2)
+    if in_readings and n_read < 2:
+        raise ln.fail("noise_in_readings", "can be true only when the frequency is given as repeated readings "
+                                           "(readings_Hz or readings_csv)")
+    return in_readings
+
+
+def readings_finding(ctx: Context, u: float, in_readings: bool) -> tuple[Finding, ...]:
+    """The finding that says which choice was made for the line noise u (Hz) beside repeated readings."""
+    n_read = ctx.facts.get("readings", 0)
+    key = "line.noise_in_readings"
+    values = {"u_line_Hz": u, "readings": n_read, "noise_in_readings": in_readings}
+    if in_readings:
+        return (Finding(f"the line-centre noise (u = {u:.3g} Hz) is taken as already in the scatter of the "
+                        f"{n_read} repeated readings and is not added again; set line.noise_in_readings to false if "
+                        "the readings are not independent locations of the line", code="nmr.line_in_readings",
+                        key=key, values=values, severity="note"),)
+    if n_read >= 2:
+        return (Finding(f"the line-centre noise (u = {u:.3g} Hz) is added to the scatter of the {n_read} readings "
+                        "(line.noise_in_readings is false): it is counted twice if the readings are independent "
+                        "locations of the line", code="nmr.line_in_readings", key=key, values=values),)
+    return ()
 
 
 COMPONENT = Component(

@@ -5,8 +5,11 @@ is fitted by ``fieldbudget.nmr.linefit``; the fitted u of the centre enters
 as the line-centre input d_line (estimate 0), its source naming the trace's
 SHA-256 digest (:func:`fieldbudget.nmr.linefit.line_centre_input`).  A stated
 ``line.u_Hz`` (what the trace cannot show, such as a lock offset) is added in
-quadrature.  The fit's own findings (a poor fit, a centre outside the trace)
-come with it.
+quadrature.  As for stated fit parameters (``fieldbudget.nmr.components.line``),
+the fitted u is the random part of locating the line: beside repeated
+readings it is taken as in their scatter unless ``line.noise_in_readings``
+is false, and a finding says which.  The fit's own findings (a poor fit, a
+centre outside the trace) come with it.
 """
 
 from __future__ import annotations
@@ -14,9 +17,11 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..._io import read_named_text
+from ...engine import InputQuantity, Normal
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import linefit
 from ._base import Built, Component, Context, Key, Term
+from .line import noise_in_readings, readings_finding
 
 
 def _build(ctx: Context) -> Built | None:
@@ -40,9 +45,21 @@ def _build(ctx: Context) -> Built | None:
             ", : ", ": ")) from None
     except FieldbudgetError as err:
         raise BudgetFileError(m.where, ln.at("trace_csv"), f"{name!r}: {err}") from None
-    q = linefit.line_centre_input(fit, stated_u_hz=ln.number("u_Hz", nonnegative=True))
     ctx.facts["trace_fit"] = fit
-    return Built(inputs=(q,), terms=(Term("frequency", "d_line"),), findings=tuple(fit.warnings))
+    stated = ln.number("u_Hz", nonnegative=True)
+    # the fitted u is the random part of locating the line: the same rule as the stated fit parameters
+    in_readings = noise_in_readings(ctx, ln)
+    findings = (*fit.warnings, *readings_finding(ctx, fit.u_centre_hz, in_readings))
+    if in_readings:
+        if not stated:
+            return Built(findings=findings)
+        q = InputQuantity("d_line", 0.0, Normal(u=stated), unit="Hz", role="specification",
+                          source=f"stated part {stated:g} Hz; the noise of the fit to {Path(name).name} "
+                                 f"({fit.digest}) is in the readings' scatter",
+                          description="correction for locating the line centre")
+        return Built(inputs=(q,), terms=(Term("frequency", "d_line"),), findings=findings)
+    q = linefit.line_centre_input(fit, stated_u_hz=stated)
+    return Built(inputs=(q,), terms=(Term("frequency", "d_line"),), findings=findings)
 
 
 COMPONENT = Component(
