@@ -109,7 +109,8 @@ def result_quantities(kind: str, result: Any) -> dict[str, float]:
     warnings = getattr(result, "nmr_warnings", None)
     if warnings is None:
         warnings = getattr(result, "warnings", ())
-    out["warning_count"] = float(len(warnings or ()))
+    # a note (which documented choice was made, e.g. line noise in the readings) is not a warning to clear
+    out["warning_count"] = float(sum(1 for w in warnings or () if getattr(w, "severity", "warning") != "note"))
     if kind == "nmr-field":
         core = _core(result)
         for name, attr in (("value", "estimate"), ("standard_uncertainty", "standard_uncertainty"),
