@@ -189,14 +189,15 @@ class Finding(str):
     ``values``
         the numbers involved, as a dict of plain JSON values;
     ``severity``
-        ``"warning"`` (the result stands, read the caution) or ``"invalid"``
-        (the reading may be invalid).
+        ``"note"`` (which of two documented choices was made; nothing to act
+        on), ``"warning"`` (the result stands, read the caution) or
+        ``"invalid"`` (the reading may be invalid).
 
     ``Finding.from_dict(f.to_dict()) == f`` and the attributes survive.
     """
 
     __slots__ = ("code", "key", "values", "severity")
-    SEVERITIES = ("warning", "invalid")
+    SEVERITIES = ("note", "warning", "invalid")
 
     def __new__(cls, message: str, code: str = "", key: str | None = None, values: dict | None = None,
                 severity: str = "warning") -> Finding:

@@ -22,6 +22,16 @@ def add_parser(sub: argparse._SubParsersAction) -> argparse.ArgumentParser:
 
 
 def run(args: argparse.Namespace) -> int:
+    from ..files import competence_record as training
+
+    if training.document_format(args.record) in training.FORMATS:  # a practice or authorisation record
+        doc = training.load_document(args.record)
+        key = load_key(args, args.key)
+        signed = training.sign_document(doc, key)
+        training.save_document(signed, args.record, replace_signed_copy=True)
+        print(f"{args.record}: signed by {key.name} ({key.role}), key {key.fingerprint[:16]}; "
+              f"{len(signed.signatures)} signature(s); content digest unchanged {doc.digest[:12]}")
+        return 0
     rec = load_record(args.record)
     key = load_key(args, args.key)
     signed = sign_record(rec, key)

@@ -37,9 +37,10 @@ __all__ = ["NMR_FIELDS", "SECTIONS", "FieldSpec", "NMRDraft"]
 class FieldSpec:
     """How one key of the measurement description is entered.
 
-    ``kind`` is ``number``, ``numbers``, ``vector`` (one number or up to three),
-    ``choice``, ``edition`` (a CODATA year) or ``text``; a blank box leaves the
-    key out of the description.
+    ``kind`` is ``number``, ``quantity`` (a number, or a text with a unit such
+    as ``63.871224 MHz``), ``numbers``, ``vector`` (one number or up to three),
+    ``choice``, ``boolean``, ``edition`` (a CODATA year) or ``text``; a blank
+    box leaves the key out of the description.
     """
 
     path: str
@@ -51,65 +52,50 @@ class FieldSpec:
     choices: tuple = ()
 
 
-SECTIONS = ("nucleus and constants", "frequency", "frequency standard", "sample", "line",
-            "gradient and position", "probe", "other")
+def _derived_fields() -> tuple[FieldSpec, ...]:
+    """One field per key of the measurement file, from the NMR components' declarations."""
+    from ..nmr.components import form_fields
 
-NMR_FIELDS: tuple[FieldSpec, ...] = (
-    FieldSpec("nucleus", "nucleus", "choice", "nucleus and constants"),
-    FieldSpec("codata", "CODATA edition", "edition", "nucleus and constants"),
-    FieldSpec("coverage_probability", "coverage probability", "number", "nucleus and constants"),
-    FieldSpec("frequency.readings_Hz", "counter readings", "numbers", "frequency", "Hz",
-              "typed or pasted, separated by spaces, commas or new lines; or load the counter's CSV file"),
-    FieldSpec("frequency.value_Hz", "single reading", "number", "frequency", "Hz", "instead of readings"),
-    FieldSpec("frequency.u_Hz", "its standard uncertainty", "number", "frequency", "Hz"),
-    FieldSpec("frequency.counter_resolution_Hz", "counter resolution", "number", "frequency", "Hz"),
-    FieldSpec("frequency.source", "counter", "text", "frequency"),
-    FieldSpec("timebase.offset", "fractional offset y", "number", "frequency standard", "",
-              "from the certificate: f_true = f_read (1 + y)"),
-    FieldSpec("timebase.u", "standard uncertainty of y", "number", "frequency standard"),
-    FieldSpec("timebase.ageing_per_day", "ageing per day", "number", "frequency standard", "1/day"),
-    FieldSpec("timebase.days_since_calibration", "days since calibration", "number", "frequency standard", "d"),
-    FieldSpec("timebase.source", "certificate", "text", "frequency standard"),
-    FieldSpec("sample.shape", "sample shape", "choice", "sample",
-              choices=("", "sphere", "cylinder", "long-cylinder", "spheroid", "ellipsoid")),
-    FieldSpec("sample.temperature_C", "sample temperature", "number", "sample", "degC"),
-    FieldSpec("sample.u_temperature_C", "its standard uncertainty", "number", "sample", "degC"),
-    FieldSpec("sample.susceptibility", "volume susceptibility", "number", "sample", "",
-              "leave blank for pure water (looked up)"),
-    FieldSpec("sample.axis", "sample axis relative to B0", "choice", "sample",
-              choices=("", "parallel", "perpendicular")),
-    FieldSpec("sample.length_over_diameter", "length / diameter", "number", "sample"),
-    FieldSpec("sample.u_length_over_diameter", "its standard uncertainty", "number", "sample"),
-    FieldSpec("sample.diameter_m", "diameter", "number", "sample", "m"),
-    FieldSpec("sample.length_m", "length", "number", "sample", "m"),
-    FieldSpec("sample.source", "sample", "text", "sample"),
-    FieldSpec("line.fwhm_Hz", "line width (FWHM)", "number", "line", "Hz"),
-    FieldSpec("line.snr", "signal-to-noise ratio", "number", "line"),
-    FieldSpec("line.points_per_fwhm", "points per FWHM", "number", "line"),
-    FieldSpec("line.u_Hz", "or: u of the line centre", "number", "line", "Hz"),
-    FieldSpec("gradient_T_per_m", "field gradient", "vector", "gradient and position", "T/m",
-              "one value (along the offset) or x y z"),
-    FieldSpec("u_gradient_T_per_m", "its standard uncertainty", "vector", "gradient and position", "T/m"),
-    FieldSpec("offset_m", "sample centre minus reference point", "vector", "gradient and position", "m"),
-    FieldSpec("u_offset_m", "its standard uncertainty", "vector", "gradient and position", "m"),
-    FieldSpec("probe.tuning_range_Hz", "probe tuning range (low high)", "numbers", "probe", "Hz"),
-    FieldSpec("probe_perturbation.value", "probe perturbation", "number", "probe", "",
-              "fractional field change from the probe's materials"),
-    FieldSpec("probe_perturbation.u", "its standard uncertainty", "number", "probe"),
-)
+    out = []
+    groups = _groups()
+    for path, key, _title in form_fields():
+        group = groups[path]
+        if key.kind == "file":
+            subs = ("path", "column", "time_column") if path.startswith("drift.") else ("path", "column")
+            for sub in subs:
+                out.append(FieldSpec(f"{path}.{sub}", f"{key.label}: {sub.replace('_', ' ')}", "text", group,
+                                     help=key.help.replace("`", "")))
+            continue
+        kind = {"quantity": "quantity", "boolean": "boolean"}.get(key.kind, key.kind)
+        choices = ("", *key.choices) if key.kind == "choice" and key.name != "nucleus" else ()
+        out.append(FieldSpec(path, key.label, kind, group, key.unit, key.help.replace("`", ""), choices))
+    return tuple(out)
 
-#: Keywords of the NMR physics warnings -> the field each concerns (first match wins).
-_WARNING_PLACES = (
-    ("temperature", "sample.temperature_C"),
-    ("tuning range", "probe.tuning_range_Hz"),
-    ("gradient", "gradient_T_per_m"),
-    ("resolution", "frequency.counter_resolution_Hz"),
-    ("linewidth", "line.fwhm_Hz"),
-    ("shape", "sample.shape"),
-    ("susceptib", "sample.susceptibility"),
-    ("timebase", "timebase.offset"),
-    ("drift", "frequency.readings_Hz"),
-)
+
+def _groups() -> dict[str, str]:
+    from ..nmr.components import components
+
+    out = {}
+    for c in components():
+        for k in c.keys:
+            out[k.name if c.section is None else f"{c.section}.{k.name}"] = c.group
+    return out
+
+
+def _sections() -> tuple[str, ...]:
+    from ..nmr.components import components
+
+    out: list[str] = []
+    for c in components():
+        if c.group not in out:
+            out.append(c.group)
+    return (*out, "other")
+
+
+SECTIONS = _sections()
+
+#: Every key of the measurement file, derived from ``fieldbudget.nmr.components`` (the form offers them all).
+NMR_FIELDS: tuple[FieldSpec, ...] = _derived_fields()
 
 Listener = Callable[["NMRDraft"], None]
 
@@ -169,15 +155,42 @@ def _spec_for(path: str, value: Any) -> FieldSpec:
     else:
         kind = "text"
     head, _, _ = path.partition(".")
-    section = {"frequency": "frequency", "timebase": "frequency standard", "sample": "sample", "line": "line",
-               "probe": "probe", "probe_perturbation": "probe"}.get(head, "other")
+    section = next((g for p, g in _groups().items() if p.split(".")[0] == head and "." in p), "other")
     words = path.split(".")[1:] if section != "other" and "." in path else path.split(".")
     return FieldSpec(path, " ".join(words).replace("_", " "), kind, section)
+
+
+def _parse_quantity_or_blank(text: str, name: str) -> float | str | None:
+    """A number, or a text with a unit left for the NMR layer to convert ("63.871224 MHz")."""
+    s = text.strip().replace("\u2212", "-")
+    if not s:
+        return None
+    try:
+        return _parse_number_or_blank(s, name)
+    except InputError:
+        if any(c.isalpha() for c in s) and any(c.isdigit() for c in s):
+            return s
+        raise
+
+
+def _parse_boolean(text: str, name: str) -> bool | None:
+    s = text.strip().lower()
+    if not s:
+        return None
+    if s in ("true", "yes", "1"):
+        return True
+    if s in ("false", "no", "0"):
+        return False
+    raise InputError(name, text, "true or false, or blank to leave it out")
 
 
 def _parser(spec: FieldSpec, choices: Mapping[str, tuple]) -> Callable[[str, str], Any]:
     if spec.kind == "number":
         return _parse_number_or_blank
+    if spec.kind == "quantity":
+        return _parse_quantity_or_blank
+    if spec.kind == "boolean":
+        return _parse_boolean
     if spec.kind == "numbers":
         return _parse_numbers_or_blank
     if spec.kind == "vector":
@@ -186,7 +199,10 @@ def _parser(spec: FieldSpec, choices: Mapping[str, tuple]) -> Callable[[str, str
         return _parse_edition
     if spec.kind == "choice":
         opts = tuple(choices.get(spec.path, spec.choices))
-        return parse_choice(opts) if opts else parse_text
+        if not opts:
+            return parse_text
+        chosen = parse_choice(opts if "" in opts else ("", *opts))  # a blank box leaves the key out
+        return lambda text, name: chosen(text, name) or None
     return lambda text, name: text.strip() or None
 
 
@@ -226,12 +242,12 @@ class NMRDraft(Observable):
         An NMR measurement description (the keys of the measurement file).
         Keys the form does not show are kept and passed on unchanged.
     fields : sequence of FieldSpec, optional
-        The fields offered (default :data:`NMR_FIELDS`).
+        The fields offered (default: every key the NMR components declare, as :data:`NMR_FIELDS`).
     base_dir : str or Path
         Where a ``readings_csv`` path in the description is looked up.
     """
 
-    def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] = NMR_FIELDS,
+    def __init__(self, measurement: Mapping | None = None, fields: Iterable[FieldSpec] | None = None,
                  base_dir: str | Path = ".", choices: Mapping[str, tuple] | None = None,
                  lab: Any = None, accept_expired: Mapping[str, str] | None = None) -> None:
         # a laboratory folder: sections naming a register instrument are resolved before the NMR loader
@@ -246,6 +262,8 @@ class NMRDraft(Observable):
         self.base_dir = str(base_dir)
         self.choices = dict(default_choices() if choices is None else choices)
         leaves = dict(_leaves(self.base))
+        if fields is None:  # derived now, so a component registered later is offered too
+            fields = _derived_fields()
         specs = {s.path: s for s in fields}
         for path, value in leaves.items():
             if path not in specs and path != "format":
@@ -398,17 +416,15 @@ class NMRDraft(Observable):
         self.general_error = msg
 
     def _place_warnings(self, warnings: Iterable[str], findings: Iterable[Any] = ()) -> None:
+        """Each finding beside the field its key names; other warnings (and keys the form lacks) below the form."""
         self.warnings_by_field, self.other_warnings = {}, []
-        named = {getattr(f, "message", None): getattr(f, "field", None) for f in findings}
+        named = {getattr(f, "message", None): getattr(f, "key", None) for f in findings}
         for text in warnings:
-            where = named.get(text)
-            if where not in self.fields:
-                low = text.lower()
-                where = next((p for k, p in _WARNING_PLACES if k in low and p in self.fields), None)
-            if where is None:
-                self.other_warnings.append(text)
-            else:
+            where = named.get(text) or getattr(text, "key", None)
+            if where in self.fields:
                 self.warnings_by_field.setdefault(where, []).append(text)
+            else:
+                self.other_warnings.append(text)
 
     def rebuild(self) -> bool:
         for f in self.fields.values():  # clear what the NMR layer said last time; parse errors come back

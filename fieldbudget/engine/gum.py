@@ -337,8 +337,11 @@ def rebase(budget: Budget, edition: int) -> Budget:
         # references to non-CODATA tables (IUPAC, water data) do not change with the CODATA edition
         if q.reference and (q.reference in codata_names or _is_codata_name(q.reference, edition)):
             rv = lookup(q.reference, edition=edition)
+            # a ratio derived from CODATA entries (the deuteron's mu_d/h) is re-derived and says so
+            derived = rv.source.startswith("derived")
             q = q.replace(estimate=rv.value, distribution=Normal(u=rv.uncertainty),
-                          source=f"CODATA {rv.edition}: {rv.name}")
+                          source=f"{rv.edition}: {rv.name} ({rv.source})" if derived else
+                          f"CODATA {rv.edition}: {rv.name}")
         inputs.append(q)
     md = dict(budget.metadata)
     md["codata"] = edition

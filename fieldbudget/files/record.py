@@ -1092,10 +1092,14 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
     (d_low, d_high, delta, validated, advice).
     """
     from . import calibration_record as cr
+    from . import competence_record as training
 
     if isinstance(record, cr.CalibrationRecord) or (isinstance(record, (str, Path)) and
                                                     cr.record_kind(record) in cr.KINDS):
         return cr.verify_calibration_record(record, trusted=trusted)
+    if isinstance(record, training.SignedDocument) or (isinstance(record, (str, Path)) and
+                                                       training.document_format(record) in training.FORMATS):
+        return training.verify_document(record, trusted=trusted)
     checks: list[Check] = []
     where = ""
     if isinstance(record, (str, Path)):

@@ -109,7 +109,8 @@ def result_quantities(kind: str, result: Any) -> dict[str, float]:
     warnings = getattr(result, "nmr_warnings", None)
     if warnings is None:
         warnings = getattr(result, "warnings", ())
-    out["warning_count"] = float(len(warnings or ()))
+    # a note (which documented choice was made, e.g. line noise in the readings) is not a warning to clear
+    out["warning_count"] = float(sum(1 for w in warnings or () if getattr(w, "severity", "warning") != "note"))
     if kind == "nmr-field":
         core = _core(result)
         for name, attr in (("value", "estimate"), ("standard_uncertainty", "standard_uncertainty"),
@@ -223,8 +224,11 @@ class ProcedureRun:
     """
 
     def __init__(self, procedure: Procedure, *, training: bool = False,
-                 entered: Mapping[str, Any] | None = None) -> None:
+                 entered: Mapping[str, Any] | None = None, authorisation: Any = None) -> None:
         self.procedure = procedure
+        #: what the lab's competence records said when the run was started (see
+        #: fieldbudget.procedure.authorised.start_run); the record keeps its flag
+        self.authorisation = authorisation
         self._training = bool(training)
         self._index = 0
         self._listeners: list[Listener] = []
@@ -546,6 +550,18 @@ class ProcedureRun:
                  and isinstance(v, (str, int, float)) and not isinstance(v, bool)}
         if getattr(self.procedure, "lab", ""):
             ident.setdefault("lab", str(self.procedure.lab))
+        if self.authorisation is not None:
+            a = self.authorisation
+            if operator and a.operator and operator != a.operator:
+                raise InputError("operator", operator, f"the operator whose authorisation was checked at the start "
+                                                       f"({a.operator!r})", self._where)
+            ident["operator"] = operator = operator or a.operator
+            ident["authorisation"] = a.flag
+            if a.supervisor:
+                ident["supervisor"] = a.supervisor
+            # said in the remark as well, which every kind of record keeps (a calibration record has no identification)
+            remark += (f" Operator {operator} not authorised for this procedure: run supervised by {a.supervisor}."
+                       if a.flag == "supervised" else f" Operator {operator} authorised for this procedure.")
         details: dict = {"identification": ident}
         if acceptance is not None:
             acc = acceptance.to_dict()

@@ -47,8 +47,9 @@ class _ChoiceBox:
 
 
 class NMRForm(w.VBox):
-    """Nucleus and CODATA edition, frequency readings, the frequency standard's certificate,
-    the sample (shape, temperature), line, gradient and position, probe."""
+    """Every key of the measurement file, grouped as the NMR components declare them
+    (``fieldbudget.nmr.components``): nucleus and constants, frequency, line, frequency standard,
+    drift, sample, probe, gradient and position, curvature."""
 
     def __init__(self, draft: NMRDraft, *, sections: tuple[str, ...] | None = None, **kwargs) -> None:
         super().__init__(**kwargs)
@@ -74,7 +75,9 @@ class NMRForm(w.VBox):
     def _row(self, spec: FieldSpec) -> w.Widget:
         label = spec.label + (f" / {pretty_unit(spec.unit)}" if pretty_unit(spec.unit) else "")
         options = self.draft.choices.get(spec.path, spec.choices)
-        if spec.kind in ("choice", "edition") and options:
+        if spec.kind == "boolean":
+            box = _ChoiceBox(self, spec, ("", "true", "false"))
+        elif spec.kind in ("choice", "edition") and options:
             box = _ChoiceBox(self, spec, tuple(str(o) for o in options))
         else:
             box = BoundText(self.draft.fields[spec.path], lambda t, p=spec.path: self._set(p, t),

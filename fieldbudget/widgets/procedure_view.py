@@ -7,7 +7,8 @@ NMR layer builds and evaluates the budget.
 
 Stable CSS classes (for lab style sheets and the browser test):
 
-``fb-proc`` (the whole app), ``fb-proc-header``, ``fb-proc-safety``,
+``fb-proc`` (the whole app), ``fb-proc-header``, ``fb-proc-authorisation``
+(who runs it, when checked at the start), ``fb-proc-safety``,
 ``fb-proc-steps`` (the list of steps), ``fb-proc-step-title``,
 ``fb-proc-instruction``, ``fb-proc-cautions``, ``fb-proc-back``,
 ``fb-proc-next``, ``fb-proc-training-toggle``, ``fb-proc-fields``,
@@ -189,6 +190,9 @@ class ProcedureView:
             f'<h3>{escape(proc.name)}</h3><div>{escape(proc.lab)} &middot; version {escape(proc.version)}'
             f'{" &middot; issued " + escape(proc.issued) if proc.issued else ""}</div>'
             f"<p>{escape(proc.summary)}</p>"), "fb-proc-header")
+        # who runs it, as the lab's competence records found at the start (procedure.authorised.start_run)
+        check = getattr(run, "authorisation", None)
+        self.authorisation = css(w.HTML(check._repr_html_() if check is not None else ""), "fb-proc-authorisation")
         # The cautions once, at the top, open until the operator folds them away.
         cautions = "".join(f"<li><strong>{escape(s.title)}.</strong> {escape(s.text)}</li>" for s in proc.safety)
         self.safety = css(w.HTML(
@@ -244,7 +248,8 @@ class ProcedureView:
             results = [section("Calibration result", self.u_text, self.status, self.outcome, self.curve,
                                cls="fb-proc-result"),
                        section("Budget of one point", self.budget, cls="fb-proc-point-budget")]
-        self.widget = css(w.VBox([style_widget(), self.header, self.safety, self.steps_list, step_box, self.fixed,
+        self.widget = css(w.VBox([style_widget(), self.header, self.authorisation, self.safety, self.steps_list,
+                                  step_box, self.fixed,
                                   *results, section("Acceptance limits", self.acceptance, cls="fb-proc-limits"),
                                   section("Save", self.export, cls="fb-proc-save")]), "fb-proc")
         self._unsubscribe = run.subscribe(self._run_changed)
@@ -408,7 +413,8 @@ class ProcedureView:
         return f"<ProcedureView over {self.run!r}>"
 
 
-def procedure_app(path: str | os.PathLike, *, training: bool = False) -> ProcedureView | w.HTML:
+def procedure_app(path: str | os.PathLike, *, training: bool = False, operator: str | None = None,
+                  lab: str | os.PathLike | None = None, supervisor: str = "") -> ProcedureView | w.HTML:
     """Build the guided app from a procedure file: the one call a template notebook makes.
 
     Parameters
@@ -417,6 +423,11 @@ def procedure_app(path: str | os.PathLike, *, training: bool = False) -> Procedu
         The lab's procedure file (TOML, ``fieldbudget-procedure/1``).
     training : bool
         Start with training mode on.
+    operator, lab, supervisor : optional
+        With ``operator`` and ``lab`` (the laboratory folder), the operator's
+        authorisation for the procedure is checked first: an operator who is
+        not authorised is refused, or the run is marked supervised by
+        ``supervisor``, as the lab's settings choose (docs/training.md).
 
     Returns
     -------
@@ -425,6 +436,12 @@ def procedure_app(path: str | os.PathLike, *, training: bool = False) -> Procedu
     file is shown as a message, not as a traceback.
     """
     try:
-        return ProcedureView(ProcedureRun(load_procedure(path), training=training))
+        procedure = load_procedure(path)
+        if operator is not None or lab is not None:
+            from ..procedure.authorised import start_run
+
+            return ProcedureView(start_run(procedure, operator=operator or "", lab=lab, supervisor=supervisor,
+                                           training=training))
+        return ProcedureView(ProcedureRun(procedure, training=training))
     except FieldbudgetError as err:
         return css(w.HTML(status_html(f"The procedure cannot be shown: {err}")), "fb-proc-error")

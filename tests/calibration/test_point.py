@@ -239,6 +239,7 @@ def _nmr_result(freq_hz):
     d = {"nucleus": "shielded-proton", "codata": 2022,
          "frequency": {"readings_Hz": [freq_hz * (1 + k * 1e-9) for k in (-1, 0, 1, 0)]},
          "timebase": {"offset": 1e-10, "u": 5e-9},
+         "sample": {"temperature_C": 22.0, "u_temperature_C": 0.1},  # else 25 degC +-5 K is assumed
          "probe_perturbation": {"value": 0.0, "u": 2e-8}}
     return NMRMeasurement.from_dict(d).evaluate()
 

@@ -32,7 +32,8 @@ BASE = {
     "timebase": {"offset": 1.2e-10, "u": 0.5e-10, "ageing_per_day": 5e-11, "days_since_calibration": 40},
     "sample": {"temperature_C": 27.0, "u_temperature_C": 0.2, "shape": "long-cylinder", "axis": "parallel",
                "u_demagnetizing_factor": 0.002, "diameter_m": 0.004, "length_m": 0.04},
-    "line": {"fwhm_Hz": 2.5, "snr": 150, "points_per_fwhm": 12},
+    # the line noise added to the readings' scatter on purpose, so the end-to-end check covers d_line
+    "line": {"fwhm_Hz": 2.5, "snr": 150, "points_per_fwhm": 12, "noise_in_readings": False},
     "gradient_T_per_m": [1e-6, 0.0, 2e-6],
     "u_gradient_T_per_m": [0.2e-6, 0.0, 0.5e-6],
     "offset_m": [0.1e-3, 0.0, 0.3e-3],
@@ -198,11 +199,23 @@ def test_iupac_nucleus_notes_and_no_codata_reference():
     assert "(1 - sigma_s)" in b.model.text()
 
 
-def test_deuteron_is_derived_and_not_rebased():
-    b = NMRMeasurement.from_dict({"nucleus": "deuteron", "frequency": {"value_Hz": 40e6, "u_Hz": 0.1}}).to_budget()
+def test_deuteron_is_derived_and_rebased_by_rederiving():
+    d = {"nucleus": "deuteron", "frequency": {"value_Hz": 40e6, "u_Hz": 0.1}}
+    b = NMRMeasurement.from_dict(d).to_budget()
     q = b.input("gamma_d")
-    assert q.reference is None
+    assert q.reference == "deuteron gyromag. ratio in MHz/T"
     assert "not a CODATA entry" in q.source and "mu_d/h" in q.source
+    # compare under 2014 re-derives mu_d/h from that edition: equal to a direct evaluation under 2014
+    r14 = evaluate(rebase(b, 2014))
+    direct = NMRMeasurement.from_dict(dict(d, codata=2014)).evaluate()
+    assert r14.estimate == pytest.approx(direct.estimate, rel=1e-15)
+    assert r14.standard_uncertainty == pytest.approx(direct.standard_uncertainty, rel=1e-12)
+    assert "not a CODATA entry" in rebase(b, 2014).input("gamma_d").source
+    # independent: mu_d/h of each edition's tables (CODATA 2014: mu_d = 0.4330735040e-26 J/T,
+    # h = 6.626070040e-34 J s; CODATA 2022: mu_d = 4.330735087e-27 J/T, h exact; values from memory)
+    g14, g22 = 0.4330735040e-26 / 6.626070040e-34, 4.330735087e-27 / 6.62607015e-34
+    assert r14.estimate / evaluate(b).estimate - 1 == pytest.approx(g22 / g14 - 1, rel=1e-6)
+    assert r14.estimate / evaluate(b).estimate - 1 == pytest.approx(-5.75e-9, abs=0.01e-9)
 
 
 def test_frequency_from_csv_column():
@@ -239,7 +252,8 @@ def test_description_round_trip_and_repr():
 
 def test_example_file_has_no_warnings():
     r = NMRMeasurement.from_file(DATA / "water_cylinder_1p5T.json").evaluate()
-    assert r.nmr_warnings == ()
+    # only the notes that the line noise is in the readings' scatter and that the detection method matters
+    assert [w.code for w in r.nmr_warnings] == ["nmr.line_in_readings", "nmr.susceptibility_broadening"]
     assert r.estimate == pytest.approx(1.5001550, abs=1e-6)
 
 
@@ -248,7 +262,9 @@ def test_example_file_has_no_warnings():
 def _simple(**kw):
     d = {"frequency": {"value_Hz": 63.87e6, "u_Hz": 0.01}}
     d.update(kw)
-    return NMRMeasurement.from_dict(d).evaluate().nmr_warnings
+    # the assumed-temperature note of a water probe without a temperature is checked on its own
+    return tuple(w for w in NMRMeasurement.from_dict(d).evaluate().nmr_warnings
+                 if w.code != "nmr.temperature_assumed")
 
 
 @pytest.mark.parametrize("t, warned", [(5.0, False), (45.0, False), (4.99, True), (45.01, True), (25.0, False)])
