@@ -46,8 +46,6 @@ the sampling and the arithmetic.
 
 from __future__ import annotations
 
-import contextlib
-import contextvars
 import math
 import os
 from collections.abc import Callable
@@ -59,6 +57,7 @@ import numpy as np
 from .. import _display
 from ..errors import InputError, ModelEvaluationError, MonteCarloCancelled
 from . import sampling
+from ._versions import VersionSetting
 from .distributions import Normal, TypeA
 
 __all__ = [
@@ -86,19 +85,9 @@ GENERATOR = "PCG64"
 #: How inputs are drawn (see the module docstring); recorded with each result.
 SAMPLER = 2
 SAMPLERS = (1, 2)
-_sampler: contextvars.ContextVar[int] = contextvars.ContextVar("fieldbudget_sampler", default=SAMPLER)
-
-
-@contextlib.contextmanager
-def sampler_version(version: int):
-    """Within the block, ``run`` draws with sampler ``version`` unless told otherwise (used to verify records)."""
-    if isinstance(version, bool) or version not in SAMPLERS:
-        raise InputError("sampler", version, f"one of {list(SAMPLERS)}", _WHERE)
-    token = _sampler.set(version)
-    try:
-        yield version
-    finally:
-        _sampler.reset(token)
+_SAMPLER = VersionSetting("sampler", SAMPLER, SAMPLERS, "Monte Carlo")
+sampler_version = _SAMPLER.use
+"""``with sampler_version(v):`` makes ``run`` draw with sampler ``v`` unless told otherwise (record checks)."""
 _WHERE = "Monte Carlo"
 
 
@@ -525,10 +514,7 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
 
     if isinstance(budget, Budget):
         budget, _ = prepare(budget)   # the same unit conversions as the GUM evaluation
-    if sampler is None:
-        sampler = _sampler.get()
-    elif isinstance(sampler, bool) or sampler not in SAMPLERS:
-        raise InputError("sampler", sampler, f"one of {list(SAMPLERS)}", _WHERE)
+    sampler = _SAMPLER.get() if sampler is None else _SAMPLER.check(sampler)
     plan = _plan(budget, sampler)
 
     if adaptive:

@@ -47,45 +47,33 @@ the forward pass is the chain rule over the same whitelist of operations as
 from __future__ import annotations
 
 import ast
-import contextlib
-import contextvars
 import math
 
 import numpy as np
 
 from ..errors import InputError, ModelEvaluationError
+from ._versions import VersionSetting
 
-__all__ = ["DEFAULT_STEP", "METHOD", "METHODS", "combined_uncertainty", "default_method", "method_in_use", "method_version"]
+__all__ = ["DEFAULT_STEP", "METHOD", "METHODS", "combined_uncertainty", "default_method", "method_in_use",
+           "method_version"]
 
 #: How the derivatives are found (see the module docstring); recorded with each result.
 METHOD = 2
 METHODS = (1, 2)
-_method: contextvars.ContextVar[int] = contextvars.ContextVar("fieldbudget_second_order_method", default=METHOD)
-
-
-@contextlib.contextmanager
-def method_version(version: int):
-    """Within the block, second-order terms are computed by method ``version`` (used to verify records)."""
-    if isinstance(version, bool) or version not in METHODS:
-        raise InputError("second_order_method", version, f"one of {list(METHODS)}", _WHERE_METHOD)
-    token = _method.set(version)
-    try:
-        yield version
-    finally:
-        _method.reset(token)
+_METHOD = VersionSetting("second_order_method", METHOD, METHODS, "second-order law of propagation")
+method_version = _METHOD.use
+"""``with method_version(v):`` makes second-order terms use method ``v`` (used to verify records)."""
 
 
 def default_method() -> int:
     """The method in force here (``METHOD`` unless :func:`method_version` says otherwise)."""
-    return _method.get()
+    return _METHOD.get()
 
 
 def method_in_use(budget) -> int:
     """The method :func:`combined_uncertainty` uses for ``budget`` now (1 for function models)."""
-    return _method.get() if budget.model.is_expression else 1
+    return _METHOD.get() if budget.model.is_expression else 1
 
-
-_WHERE_METHOD = "second-order law of propagation"
 
 DEFAULT_STEP = 0.05
 """Finite-difference step in units of each input's standard uncertainty."""
