@@ -105,13 +105,11 @@ def _plain_pairs(items, symbols: list[str]) -> tuple | None:
 def _quick_pairs(items, symbols: list[str]) -> tuple | None:
     if set(map(len, items)) != {3}:
         return None
-    a_s = list(map(itemgetter(0), items))
-    b_s = list(map(itemgetter(1), items))
     r_s = list(map(itemgetter(2), items))
     index = {s: k for k, s in enumerate(symbols)}
-    n = len(a_s)
-    ia = np.fromiter(map(index.__getitem__, a_s), dtype=np.intp, count=n)
-    ib = np.fromiter(map(index.__getitem__, b_s), dtype=np.intp, count=n)
+    n = len(r_s)
+    ia = np.fromiter(map(index.__getitem__, map(itemgetter(0), items)), dtype=np.intp, count=n)
+    ib = np.fromiter(map(index.__getitem__, map(itemgetter(1), items)), dtype=np.intp, count=n)
     if np.any(ia == ib):
         return None
     all_float = {float}.issuperset(map(type, r_s))
@@ -128,7 +126,7 @@ def _quick_pairs(items, symbols: list[str]) -> tuple | None:
         return None  # a pair given twice with two different coefficients
     if all_float and {tuple}.issuperset(map(type, items)):
         return items, ia, ib, r  # already (a, b, float r) triples
-    return list(zip(a_s, b_s, r.tolist())), ia, ib, r
+    return list(zip(map(itemgetter(0), items), map(itemgetter(1), items), r.tolist())), ia, ib, r
 
 
 @dataclass(frozen=True)
