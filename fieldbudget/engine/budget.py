@@ -13,7 +13,9 @@ s(q, w) = sum (q_k - q)(w_k - w) / (n (n - 1)) (JCGM 100:2008 5.2.3, eqs. 14, 17
 from __future__ import annotations
 
 import math
+from collections import Counter
 from collections.abc import Mapping
+from operator import itemgetter
 from dataclasses import dataclass, field, replace
 
 import numpy as np
@@ -81,6 +83,50 @@ class Measurand:
         if self.description:
             d["description"] = self.description
         return d
+
+
+def _plain_pairs(items, symbols: list[str]) -> tuple | None:
+    """``(pairs, ia, ib, r)`` when every item is a good pair given once (or repeated with the same r); else None.
+
+    ``pairs`` are the (a, b, float r) triples, ``ia`` and ``ib`` the inputs'
+    indices in ``symbols`` and ``r`` the coefficients as arrays.  Same
+    acceptance as the item-by-item checks in :class:`Budget` (which name the
+    first bad item), done with dict look-ups and numpy so that half a
+    million pairs take a fraction of a second.
+    """
+    if not items:
+        return [], None, None, None
+    try:
+        return _quick_pairs(items, symbols)
+    except (TypeError, KeyError):  # no sequence, an unhashable or unknown symbol: the full check names it
+        return None
+
+
+def _quick_pairs(items, symbols: list[str]) -> tuple | None:
+    if set(map(len, items)) != {3}:
+        return None
+    r_s = list(map(itemgetter(2), items))
+    index = {s: k for k, s in enumerate(symbols)}
+    n = len(r_s)
+    ia = np.fromiter(map(index.__getitem__, map(itemgetter(0), items)), dtype=np.intp, count=n)
+    ib = np.fromiter(map(index.__getitem__, map(itemgetter(1), items)), dtype=np.intp, count=n)
+    if np.any(ia == ib):
+        return None
+    all_float = {float}.issuperset(map(type, r_s))
+    if not all_float and not {float, int}.issuperset(map(type, r_s)):
+        if not all(isinstance(r, (int, float)) and not isinstance(r, bool) for r in r_s):
+            return None
+    r = np.array(r_s, dtype=float)
+    if not (np.all(np.isfinite(r)) and np.all(np.abs(r) <= 1)):
+        return None
+    key = np.minimum(ia, ib) * len(symbols) + np.maximum(ia, ib)
+    order = np.argsort(key, kind="stable")
+    same = key[order][1:] == key[order][:-1]
+    if np.any(same & (r[order][1:] != r[order][:-1])):
+        return None  # a pair given twice with two different coefficients
+    if all_float and {tuple}.issuperset(map(type, items)):
+        return items, ia, ib, r  # already (a, b, float r) triples
+    return list(zip(map(itemgetter(0), items), map(itemgetter(1), items), r.tolist())), ia, ib, r
 
 
 @dataclass(frozen=True)
@@ -151,21 +197,22 @@ class Budget:
         for q in inputs:
             if not isinstance(q, InputQuantity):
                 raise InputError("inputs", q, "InputQuantity objects")
-        dup = sorted({s for s in symbols if symbols.count(s) > 1})
+        known = set(symbols)  # membership tests below: a set, not a scan of the list per lookup
+        dup = sorted(s for s, n in Counter(symbols).items() if n > 1) if len(known) < len(symbols) else []
         if dup:
             raise InputError("inputs", dup[0], "symbols that appear once each")
         # every model symbol must be an input (re-checked against the inputs so the message lists them)
         if model.expressions is not None:
             for e in model.expressions:
                 for s in e.symbols:
-                    if s not in symbols:
+                    if s not in known:
                         raise ExpressionError(
                             "model", e.text,
                             f"written in the inputs' symbols ({s!r} is not an input; inputs: "
                             f"{', '.join(symbols) or 'none'})",
                         )
         else:
-            missing = [s for s in model.function_symbols if s not in symbols]
+            missing = [s for s in model.function_symbols if s not in known]
             if missing:
                 raise InputError("model", model.text(), f"a function of the inputs ({missing[0]!r} is not an input)")
         # measurands
@@ -181,7 +228,7 @@ class Budget:
             measurands = tuple(Measurand(o) for o in model.outputs)
         if tuple(m.symbol for m in measurands) != model.outputs:
             raise InputError("measurands", [m.symbol for m in measurands], f"one per output, in order {model.outputs}")
-        clash = [m.symbol for m in measurands if m.symbol in symbols]
+        clash = [m.symbol for m in measurands if m.symbol in known]
         if clash:
             raise InputError("measurand symbol", clash[0], "different from every input symbol")
         object.__setattr__(self, "model", model)
@@ -208,16 +255,21 @@ class Budget:
         if self.units not in UNIT_CHECKS:
             raise InputError("units", self.units, f"one of {UNIT_CHECKS} ('unchecked' for a budget without units)")
         object.__setattr__(self, "metadata", FrozenMapping(self.metadata))
-        # correlations
-        corr = []
+        # correlations: a quick check of the whole list first (a full matrix of 1000 inputs is 499 500
+        # pairs); only a list that fails it goes through the loop below, which names the first bad pair
+        quick = _plain_pairs(self.correlations, symbols)
+        corr = None if quick is None else quick[0]
+        if quick is not None and quick[1] is not None:
+            object.__setattr__(self, "_pair_index", quick[1:])  # for the correlation matrix
         seen: dict[frozenset, float] = {}
-        for item in self.correlations:
+        slow: list = [] if corr is None else None  # type: ignore[assignment]
+        for item in (self.correlations if corr is None else ()):
             try:
                 a, b, r = item
             except (TypeError, ValueError):
                 raise CorrelationError("correlation", item, "a triple [symbol_a, symbol_b, r]") from None
             for s in (a, b):
-                if s not in symbols:
+                if s not in known:
                     raise CorrelationError("correlation", [a, b, r], f"between inputs of the budget ({s!r} is not one)",
                                            pair=(a, b))
             if a == b:
@@ -229,13 +281,15 @@ class Budget:
                 raise CorrelationError(f"correlation between {a!r} and {b!r}", r,
                                        f"given once (it was also given as {seen[key]})", pair=(a, b))
             seen[key] = float(r)
-            corr.append((a, b, float(r)))
+            slow.append((a, b, float(r)))
+        if corr is None:  # the full check is the rule; the quick one only spares it for long lists
+            corr = slow
         object.__setattr__(self, "correlations", tuple(corr))
         groups = []
         for g in self.simultaneous:
             g = tuple(g)
             for s in g:
-                if s not in symbols:
+                if s not in known:
                     raise CorrelationError("simultaneous", list(g), f"groups of input symbols ({s!r} is not one)")
                 if not isinstance(self.input(s).distribution, TypeA):
                     raise CorrelationError("simultaneous", list(g), f"groups of inputs given as readings ({s!r} is not)")
@@ -252,9 +306,12 @@ class Budget:
         return tuple(q.symbol for q in self.inputs)
 
     def input(self, symbol: str) -> InputQuantity:
-        for q in self.inputs:
-            if q.symbol == symbol:
-                return q
+        index = self.__dict__.get("_index")
+        if index is None:  # built once: a budget is immutable
+            index = {q.symbol: q for q in self.inputs}
+            object.__setattr__(self, "_index", index)
+        if symbol in index:
+            return index[symbol]
         raise InputError("symbol", symbol, f"one of the inputs {list(self.symbols)}")
 
     def replace(self, **changes) -> Budget:
@@ -277,18 +334,34 @@ class Budget:
 
     def correlation_matrix(self) -> np.ndarray:
         """Correlation coefficients r(x_i, x_j) in the order of :attr:`inputs`."""
+        cached = self.__dict__.get("_correlation_matrix")
+        if cached is None:  # built once (a budget is immutable); callers get a copy they may change
+            cached = self._build_correlation_matrix()
+            cached.setflags(write=False)
+            object.__setattr__(self, "_correlation_matrix", cached)
+        return cached.copy()
+
+    def _build_correlation_matrix(self) -> np.ndarray:
         syms = self.symbols
         idx = {s: i for i, s in enumerate(syms)}
         r = np.eye(len(syms))
         for g in self.simultaneous:
             data = np.array([self.input(s).distribution.readings for s in g])
             c = np.corrcoef(data) if len(g) > 1 else np.ones((1, 1))
-            for i, a in enumerate(g):
-                for j, b in enumerate(g):
-                    if i != j:
-                        r[idx[a], idx[b]] = c[i, j]
-        for a, b, v in self.correlations:
-            r[idx[a], idx[b]] = r[idx[b], idx[a]] = v
+            at = np.array([idx[s] for s in g])
+            off = ~np.eye(len(g), dtype=bool)
+            r[np.ix_(at, at)] = np.where(off, c, r[np.ix_(at, at)])
+        if self.correlations:
+            # one assignment per side instead of a Python loop over the pairs (same numbers)
+            pairs = self.__dict__.get("_pair_index")
+            if pairs is None:
+                n = len(self.correlations)
+                pairs = (np.fromiter((idx[x] for x, _, _ in self.correlations), dtype=np.intp, count=n),
+                         np.fromiter((idx[y] for _, y, _ in self.correlations), dtype=np.intp, count=n),
+                         np.fromiter((c for _, _, c in self.correlations), dtype=float, count=n))
+            a, b, v = pairs
+            r[a, b] = v
+            r[b, a] = v
         return r
 
     @property
@@ -299,6 +372,13 @@ class Budget:
         if not self.has_correlations:
             return
         r = self.correlation_matrix()
+        try:
+            # Cholesky succeeds only when every eigenvalue exceeds -0.5e-10: positive semi-definite within
+            # the 1e-10 allowed below, at a fraction of the cost of the eigenvalues
+            np.linalg.cholesky(r + 0.5e-10 * np.eye(len(r)))
+            return
+        except np.linalg.LinAlgError:
+            pass
         w = np.linalg.eigvalsh(r)
         if w[0] >= -1e-10:
             return

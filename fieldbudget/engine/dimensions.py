@@ -57,7 +57,15 @@ class _Dim:
     lit: float = 1.0               # product of the literal numbers
     symbol: str | None = None      # a bare input symbol (possibly negated)
     offset: bool = False
-    text: str = ""
+    src: object = ""               # the sub-expression's text, or (model text, node) to cut it out when needed
+
+    @property
+    def text(self) -> str:
+        """The sub-expression's text (cut out of the model only when a message needs it)."""
+        if isinstance(self.src, str):
+            return self.src
+        source, node = self.src
+        return ast.get_source_segment(source, node) or ast.unparse(node)
 
     def scales(self) -> tuple[float, ...]:
         return (self.s,) if self.lit in (0.0, 1.0) else (self.s, self.s / abs(self.lit))
@@ -121,45 +129,62 @@ class _Walker:
         raise ExpressionError("model", self.expr.text, f"dimensionally consistent: {what}",
                               f"model of {self.measurand.symbol!r}", col)
 
-    def walk(self, node) -> _Dim:
+    def lazy(self, node) -> tuple:
+        return (self.expr.text, node)
+
+    def walk(self, root) -> _Dim:
+        """The dimensions of ``root``, children first, with an explicit stack (no recursion limit)."""
+        done: dict[int, _Dim] = {}
+        stack = [(root, False)]
+        while stack:
+            node, ready = stack.pop()
+            kids = _children(node)
+            if kids and not ready:
+                stack.append((node, True))
+                stack.extend((k, False) for k in reversed(kids))  # left subtree first, as the text reads
+                continue
+            done[id(node)] = self.node(node, [done.pop(id(k)) for k in kids])
+        return done[id(root)]
+
+    def node(self, node, kids: list) -> _Dim:
+        """One node's dimensions from its children's (``kids``, in order)."""
         if isinstance(node, ast.Constant):
-            return _Dim((), 1.0, float(node.value), text=self.seg(node))
+            return _Dim((), 1.0, float(node.value), src=self.lazy(node))
         if isinstance(node, ast.Name):
             if node.id in CONSTANTS and node.id not in self.units:
-                return _Dim((), 1.0, CONSTANTS[node.id], text=node.id)
+                return _Dim((), 1.0, CONSTANTS[node.id], src=node.id)
             unit, info = self.units[node.id]
             return _Dim(info.dimensions, info.factor, 1.0, node.id, info.offset, node.id)
         if isinstance(node, ast.UnaryOp):
-            d = self.walk(node.operand)
-            return replace(d, text=self.seg(node))
+            return replace(kids[0], src=self.lazy(node))
         if isinstance(node, ast.BinOp):
-            a, b = self.walk(node.left), self.walk(node.right)
+            a, b = kids
             op = type(node.op)
             if op in (ast.Add, ast.Sub):
                 return self.add(node, a, b, (node.left, node.right))
             if op is ast.Mult:
-                return _Dim(_combine(dict(a.dims), b.dims, 1.0), a.s * b.s, a.lit * b.lit, text=self.seg(node))
+                return _Dim(_combine(dict(a.dims), b.dims, 1.0), a.s * b.s, a.lit * b.lit, src=self.lazy(node))
             if op is ast.Div:
                 lit = a.lit / b.lit if b.lit != 0 else a.lit
-                return _Dim(_combine(dict(a.dims), b.dims, -1.0), a.s / b.s, lit, text=self.seg(node))
+                return _Dim(_combine(dict(a.dims), b.dims, -1.0), a.s / b.s, lit, src=self.lazy(node))
             return self.power(node, a, b)
         assert isinstance(node, ast.Call) and isinstance(node.func, ast.Name)
         name = node.func.id
-        args = [self.walk(x) for x in node.args]
+        args = kids
         if name in ("sqrt", "abs"):
             e = 0.5 if name == "sqrt" else 1.0
             a = args[0]
-            return _Dim(tuple((k, v * e) for k, v in a.dims), a.s ** e, abs(a.lit) ** e, text=self.seg(node))
+            return _Dim(tuple((k, v * e) for k, v in a.dims), a.s ** e, abs(a.lit) ** e, src=self.lazy(node))
         if name in ("hypot", "atan2"):
             d = self.add(node, args[0], args[1], tuple(node.args))
-            return d if name == "hypot" else _Dim((), 1.0, 1.0, text=self.seg(node))
+            return d if name == "hypot" else _Dim((), 1.0, 1.0, src=self.lazy(node))
         if name in ("radians", "degrees"):
             a = args[0]
             if a.dims:
                 self.fail(node, f"{name}() takes an angle, a pure number ({self.seg(node.args[0])!r} is "
                                 f"{self.describe(a)})")
             f = math.pi / 180 if name == "radians" else 180 / math.pi
-            return _Dim((), a.s, a.lit * f, text=self.seg(node))
+            return _Dim((), a.s, a.lit * f, src=self.lazy(node))
         a = args[0]
         if a.dims:
             self.fail(node, f"{name}() takes a pure number, but {self.seg(node.args[0])!r} is {self.describe(a)}")
@@ -169,7 +194,7 @@ class _Walker:
                                f"the argument of {name}() must be a plain number")
             self.fail(node, f"{name}() takes a plain number, but {self.seg(node.args[0])!r} carries a scaled unit "
                             f"(factor {a.s:g}); convert it in the model")
-        return _Dim((), 1.0, 1.0, text=self.seg(node))
+        return _Dim((), 1.0, 1.0, src=self.lazy(node))
 
     def power(self, node, a: _Dim, b: _Dim) -> _Dim:
         if b.dims:
@@ -181,12 +206,12 @@ class _Walker:
                 if a.dims:
                     self.fail(node, f"{self.seg(node.left)!r} is {self.describe(a)}, so its exponent must be a "
                                     f"number, not {self.seg(node.right)!r}")
-                return _Dim((), 1.0, 1.0, text=self.seg(node))
+                return _Dim((), 1.0, 1.0, src=self.lazy(node))
             e = float(_eval(node.right, {}, _functions("numpy")))
         else:
-            return _Dim((), 1.0, 1.0, text=self.seg(node))
+            return _Dim((), 1.0, 1.0, src=self.lazy(node))
         return _Dim(tuple((k, v * e) for k, v in a.dims), a.s ** e, abs(a.lit) ** e if a.lit else 1.0,
-                    text=self.seg(node))
+                    src=self.lazy(node))
 
     def add(self, node, a: _Dim, b: _Dim, children: tuple) -> _Dim:
         if a.dims != b.dims:
@@ -198,7 +223,7 @@ class _Walker:
                             f"state {a.text!r} and {b.text!r} in the same temperature unit")
         for s in a.scales():
             if any(_same(s, t) for t in b.scales()):
-                return _Dim(a.dims, s, 1.0, text=self.seg(node), offset=a.offset and b.offset)
+                return _Dim(a.dims, s, 1.0, src=self.lazy(node), offset=a.offset and b.offset)
         # the same dimensions in differently scaled units: convert a single-input term
         ms = self.measurand_info()
         if a.offset or b.offset:
@@ -241,6 +266,16 @@ class _Walker:
         if not unit:
             return None
         return unit, parse_unit(unit)
+
+
+def _children(node) -> list:
+    if isinstance(node, ast.BinOp):
+        return [node.left, node.right]
+    if isinstance(node, ast.UnaryOp):
+        return [node.operand]
+    if isinstance(node, ast.Call):
+        return list(node.args)
+    return []
 
 
 def _is_angle(unit: str) -> bool:

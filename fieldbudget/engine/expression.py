@@ -136,12 +136,15 @@ class Expression:
     def _check(self, root: ast.AST, symbols: list[str], allowed: Sequence[str] | None) -> None:
         # explicit stack, children pushed in reverse so symbols are listed left to right
         stack = [root]
+        listed = set(symbols)  # the symbols list in order, this set for the look-up
+        allowed = None if allowed is None else frozenset(allowed)
         while stack:
             node = stack.pop()
-            for child in reversed(self._check_node(node, symbols, allowed)):
+            for child in reversed(self._check_node(node, symbols, allowed, listed)):
                 stack.append(child)
 
-    def _check_node(self, node: ast.AST, symbols: list[str], allowed: Sequence[str] | None) -> list:
+    def _check_node(self, node: ast.AST, symbols: list[str], allowed: Sequence[str] | None,
+                    listed: set[str]) -> list:
         """Check one node; return the children still to be checked."""
         if isinstance(node, ast.BinOp):
             if type(node.op) not in _BINOPS:
@@ -165,7 +168,8 @@ class Expression:
             if allowed is not None and name not in allowed:
                 known = ", ".join(sorted(allowed)) or "none"
                 self._fail(node, f"written in the inputs' symbols ({name!r} is not an input; inputs: {known})")
-            if name not in symbols:
+            if name not in listed:
+                listed.add(name)
                 symbols.append(name)
         elif isinstance(node, ast.Call):
             if not isinstance(node.func, ast.Name):

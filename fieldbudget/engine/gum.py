@@ -210,10 +210,15 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     C, y, method = sensitivities(budget)
     u = np.array([q.standard_uncertainty for q in budget.inputs])
     nu = np.array([q.dof for q in budget.inputs])
-    R = budget.correlation_matrix()
+    R = V = None
     with np.errstate(all="ignore"):
-        V = R * np.outer(u, u)
-        cov = C @ V @ C.T
+        if budget.has_correlations:
+            R = budget.correlation_matrix()
+            V = R * np.outer(u, u)
+            cov = C @ V @ C.T
+        else:
+            # V is diagonal: no n x n matrix (10 000 inputs would need 800 MB), the same numbers as C V C^T
+            cov = (C * (u * u)) @ C.T
     if not np.all(np.isfinite(cov)) or not np.all(np.isfinite(C)):
         raise ModelEvaluationError(
             f"model {budget.model.text()!r}: the combined variance is not a finite number (a sensitivity "
@@ -232,7 +237,10 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
         common.append(f"every input of the model is a reading of the simultaneous group {', '.join(group)}: the "
                       f"output was computed for each of the {n_sets} sets of readings and evaluated by Type A "
                       "(JCGM 100:2008 H.2, second approach)")
+    from .second_order import method_in_use
+
     u2o: float | None = None
+    u2o_method = method_in_use(budget)  # recorded even without second-order terms: validation may compute them
     if second_order or budget.second_order:
         from .second_order import combined_uncertainty as _second_order
 
@@ -304,6 +312,7 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
             contributions=contribs, correlation_variance=corr_var, higher_order_variance=higher,
             sensitivity_method=method,
             warnings=tuple(warn), u_second_order=u2o, dof_method=dof_method, readings_sets=n_sets,
+            second_order_method=u2o_method,
         ))
     if len(results) == 1:
         return results[0]

@@ -27,6 +27,18 @@ blocks, so for a given seed the numbers are bit-identical whatever the chunk
 size or the number of workers.  Model values are kept (8 bytes per trial and
 output); the draws are not, so memory is bounded by the chunk size.
 
+Sampler versions.  ``SAMPLER`` numbers the way inputs are drawn, recorded
+with every result (``sampler`` in ``to_dict``, from version 2 on):
+
+- 1: every input is drawn, a zero-uncertainty one too (its draws are then
+  multiplied by zero);
+- 2 (current): an input with zero standard uncertainty takes no draws and
+  holds its estimate, so the later inputs of a block take other numbers of
+  the stream than under version 1.
+
+``run(..., sampler=1)`` (or ``with sampler_version(1):``) repeats a version-1
+run bit for bit; records made before versions existed are version 1.
+
 Written by hand because the run loop, the streams per block and the
 JCGM 101 summaries are the standard's procedure, not a library's; numpy does
 the sampling and the arithmetic.
@@ -45,9 +57,11 @@ import numpy as np
 from .. import _display
 from ..errors import InputError, ModelEvaluationError, MonteCarloCancelled
 from . import sampling
+from ._versions import VersionSetting
 from .distributions import Normal, TypeA
 
 __all__ = [
+    "SAMPLER", "SAMPLERS", "sampler_version",
     "ADAPTIVE_MAX_TRIALS",
     "BLOCK_SIZE",
     "DEFAULT_TRIALS",
@@ -68,6 +82,12 @@ ADAPTIVE_MAX_TRIALS = 10_000_000
 DEFAULT_CHUNK = 100_000
 HISTOGRAM_BINS = 100
 GENERATOR = "PCG64"
+#: How inputs are drawn (see the module docstring); recorded with each result.
+SAMPLER = 2
+SAMPLERS = (1, 2)
+_SAMPLER = VersionSetting("sampler", SAMPLER, SAMPLERS, "Monte Carlo")
+sampler_version = _SAMPLER.use
+"""``with sampler_version(v):`` makes ``run`` draw with sampler ``v`` unless told otherwise (record checks)."""
 _WHERE = "Monte Carlo"
 
 
@@ -179,6 +199,7 @@ class MonteCarloResult:
     stages: int = 0
     skewness: float = 0.0
     excess_kurtosis: float = 0.0
+    sampler: int = SAMPLER
 
     @property
     def interval_tolerance(self) -> tuple[float, float] | None:
@@ -192,7 +213,7 @@ class MonteCarloResult:
 
     def to_dict(self) -> dict:
         counts, edges = self.histogram
-        return {
+        d = {
             "output": self.output,
             "unit": self.unit,
             "value": self.estimate,
@@ -216,6 +237,9 @@ class MonteCarloResult:
             "histogram": {"counts": list(counts), "edges": list(edges)},
             "warnings": list(self.warnings),
         }
+        if self.sampler != 1:  # version 1 wrote no key: its results keep the form they were recorded in
+            d["sampler"] = self.sampler
+        return d
 
     def _line(self) -> str:
         unit = f" {self.unit}" if self.unit else ""
@@ -315,13 +339,15 @@ class _Plan:
     model: object
     outputs: tuple[str, ...]
     units: tuple[str, ...]
+    held: frozenset[int] = frozenset()   # inputs that hold their estimate (sampler 2: zero uncertainty)
+    sampler: int = SAMPLER
 
 
 def _sampled_dof(d) -> float:
     return float(d.n - 1) if isinstance(d, TypeA) else float(d.dof)
 
 
-def _plan(budget) -> _Plan:
+def _plan(budget, sampler: int = SAMPLER) -> _Plan:
     inputs = tuple(budget.inputs)
     names = tuple(q.symbol for q in inputs)
     estimates = tuple(float(q.estimate) for q in inputs)
@@ -353,7 +379,9 @@ def _plan(budget) -> _Plan:
     measurands = tuple(getattr(budget, "measurands", ()) or ())
     units = tuple(str(m.unit or "") for m in measurands) if len(measurands) == len(outputs) else ("",) * len(outputs)
     grouped = frozenset(i for g in groups for i in g.index)
-    return _Plan(names, estimates, dists, tuple(groups), grouped, model, outputs, units)
+    held = frozenset() if sampler == 1 else frozenset(
+        i for i, d in enumerate(dists) if i not in grouped and d.standard_uncertainty == 0)
+    return _Plan(names, estimates, dists, tuple(groups), grouped, model, outputs, units, held, sampler)
 
 
 def _fill_chunk(plan: _Plan, seed: int, first_block: int, n_blocks: int, total: int,
@@ -373,7 +401,9 @@ def _fill_chunk(plan: _Plan, seed: int, first_block: int, n_blocks: int, total: 
         rng = _stream(seed, b)
         for i, (d, est) in enumerate(zip(plan.distributions, plan.estimates)):
             row = x[i, off:off + n]
-            if i in plan.grouped:
+            if i in plan.held:
+                row.fill(est)  # sampler 2: no draws for an input known exactly
+            elif i in plan.grouped:
                 sampling.draw_standard(rng, row)
             else:
                 sampling.draw_into(d, est, rng, row)
@@ -412,7 +442,8 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         chunk_size: int | None = None, progress: Callable[[int, int], object] | None = None,
         should_stop: Callable[[], bool] | None = None, workers: int = 1,
         max_trials: int | None = None,
-        stop_when: Callable[[dict], bool] | None = None) -> MonteCarloResult | MonteCarloVectorResult:
+        stop_when: Callable[[dict], bool] | None = None,
+        sampler: int | None = None) -> MonteCarloResult | MonteCarloVectorResult:
     """Propagate the budget's input distributions through its model (JCGM 101:2008).
 
     Parameters
@@ -455,6 +486,10 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
         7.9.4 d); the run goes on while it returns False (used by
         :func:`fieldbudget.engine.validation.validate_adaptive` to run until
         the validation is decided).
+    sampler : int, optional
+        Sampler version (``SAMPLERS``; default the one set by
+        :func:`sampler_version`, else ``SAMPLER``).  Version 1 repeats runs
+        recorded before zero-uncertainty inputs stopped taking draws.
 
     Every result carries the standard errors of its interval ends
     (``interval_se``), from the spread of the ends over stages of
@@ -479,7 +514,8 @@ def run(budget, trials: int = DEFAULT_TRIALS, seed: int | None = None, *, adapti
 
     if isinstance(budget, Budget):
         budget, _ = prepare(budget)   # the same unit conversions as the GUM evaluation
-    plan = _plan(budget)
+    sampler = _SAMPLER.get() if sampler is None else _SAMPLER.check(sampler)
+    plan = _plan(budget, sampler)
 
     if adaptive:
         stage = _adaptive_stage(p)
@@ -761,7 +797,7 @@ def _summarise(plan: _Plan, values: np.ndarray, p: float, seed: int, hows: list[
             numpy_version=np.__version__, evaluation=how, adaptive=adaptive, histogram=hist,
             block_size=BLOCK_SIZE, output=name, unit=plan.units[o], stabilised=stabilised,
             warnings=tuple(warnings), interval_se=se_sym, shortest_interval_se=se_short, stages=h,
-            skewness=skew, excess_kurtosis=kurt))
+            skewness=skew, excess_kurtosis=kurt, sampler=plan.sampler))
     if len(results) == 1:
         return results[0]
     return MonteCarloVectorResult(tuple(results), correlation)

@@ -87,6 +87,8 @@ class BudgetResult:
     validation: object | None = None
     dof_method: str = "welch_satterthwaite"
     readings_sets: int | None = None
+    # engine.second_order.METHODS: how second-order terms are (or, for the validation's diagnostics, would be) found
+    second_order_method: int | None = None
 
     # -- derived ------------------------------------------------------------------
     @property
@@ -292,6 +294,8 @@ class BudgetResult:
             d["codata"] = self.budget.metadata["codata"]
         if self.u_second_order is not None:
             d["u_second_order"] = self.u_second_order
+        if self.second_order_method not in (None, 1):  # method 1 wrote no key: its records keep their form
+            d["second_order_method"] = self.second_order_method
         if self.readings_sets is not None:
             d["readings_sets"] = self.readings_sets
         if self.monte_carlo is not None:

@@ -327,12 +327,24 @@ def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None,
         "budget": _plain(budget.to_dict(), "#/budget"),
         "input_order": [q.symbol for q in budget.inputs],
         "settings": {"forced_monte_carlo": monte_carlo, "seed": seed,
-                     "monte_carlo": None if mc is None else _mc_settings(results)},
+                     "monte_carlo": None if mc is None else _mc_settings(results),
+                     "second_order_method": _second_order_method()},
         "results": results,
         "certificate": dict(certificate or {}),
     })
     _revision(doc, previous, "calibration_file")
     return _seal(doc, sign)
+
+
+def _points_sampler(results: Mapping) -> int:
+    """The sampler version the points' Monte Carlo runs used."""
+    for p in results.get("points") or []:
+        mc = p.get("mc") if isinstance(p, Mapping) else None
+        if isinstance(mc, Mapping):
+            return int(mc.get("sampler", 1))
+    from ..engine import montecarlo
+
+    return montecarlo.SAMPLER
 
 
 def _mc_settings(results: Mapping) -> dict:
@@ -341,7 +353,7 @@ def _mc_settings(results: Mapping) -> dict:
     mc = results["monte_carlo"]
     u = max(p["u"] for p in results["points"])
     return {"trials": int(mc["trials"]), "seed": int(mc["seed"]),
-            "tolerance": monte_carlo_tolerance(float(u), int(mc["trials"]))}
+            "tolerance": monte_carlo_tolerance(float(u), int(mc["trials"])), "sampler": _points_sampler(results)}
 
 
 def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None,
@@ -371,10 +383,24 @@ def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: in
                 "input_order": [q.symbol for q in budget.inputs],
                 "settings": {"forced_monte_carlo": None, "seed": seed,
                              "monte_carlo": None if mc_d is None else {"trials": int(_first(mc_d, "trials")),
-                                                                       "seed": int(_first(mc_d, "seed"))}},
+                                                                       "seed": int(_first(mc_d, "seed")),
+                                                                       "sampler": _sampler_of(mc_d)},
+                             "second_order_method": _second_order_method()},
                 "results": _plain({"gum": gum.to_dict(), "monte_carlo": mc_d}, "#/results")})
     _revision(doc, previous, "budget")
     return _seal(doc, sign)
+
+
+def _second_order_method() -> int:
+    from ..engine import second_order
+
+    return second_order.default_method()
+
+
+def _sampler_of(mc_d: Mapping) -> int:
+    """The sampler version of a Monte Carlo result's dict (version 1 writes no key)."""
+    outs = mc_d.get("outputs") or mc_d.get("results") or [mc_d]
+    return int(outs[0].get("sampler", 1))
 
 
 def _first(mc_d: Mapping, key: str) -> Any:
@@ -498,11 +524,20 @@ def verify_calibration_record(record: CalibrationRecord | str | Path, *, trusted
     same_stream = then.get("numpy") == software_versions().get("numpy")
     settings = doc.get("settings") or {}
     try:
-        if record.is_calibration:
-            _, fresh = _evaluate_calibration(doc["resolved_file"], settings.get("forced_monte_carlo"),
-                                             int(settings["seed"]))
-        else:
-            fresh = _several_output_results(doc)
+        from ..engine import montecarlo as _mc
+        from ..engine import second_order as _so
+        from .record import recorded_sampler
+
+        method = settings.get("second_order_method", 1)  # 1 for records made before methods were recorded
+        if isinstance(method, bool) or method not in _so.METHODS:
+            raise RecordError(f"second-order method {method!r} is not one this release knows "
+                              f"({list(_so.METHODS)})")
+        with _mc.sampler_version(recorded_sampler(settings.get("monte_carlo"))), _so.method_version(method):
+            if record.is_calibration:
+                _, fresh = _evaluate_calibration(doc["resolved_file"], settings.get("forced_monte_carlo"),
+                                                 int(settings["seed"]))
+            else:
+                fresh = _several_output_results(doc)
     except FieldbudgetError as err:
         checks.append(Check("re-evaluation", "fail", f"the recorded content no longer evaluates: {err}"))
         return VerifyResult(tuple(checks), where, sig_results, trusted is not None)

@@ -513,12 +513,33 @@ def _as_budget(budget: Any):
     raise InputError("budget", type(budget).__name__, "an engine Budget or budget file content (a dict)", "make_record")
 
 
-def _run_monte_carlo(budget, trials: int, seed: int, adaptive: bool = False):
+def _run_monte_carlo(budget, trials: int, seed: int, adaptive: bool = False, sampler: int | None = None):
+    """A Monte Carlo run as recorded; ``sampler`` is the recorded sampler version (None: the current one)."""
     from ..engine import montecarlo
 
     if adaptive:  # the adaptive procedure (JCGM 101 7.9.4) picks M itself from the same seed
-        return montecarlo.run(budget, seed=seed, adaptive=True)
-    return montecarlo.run(budget, trials=trials, seed=seed)
+        return montecarlo.run(budget, seed=seed, adaptive=True, sampler=sampler)
+    return montecarlo.run(budget, trials=trials, seed=seed, sampler=sampler)
+
+
+def recorded_second_order_method(gum: object) -> int:
+    """The second-order method of a recorded GUM block: its ``second_order_method``, or 1 when absent."""
+    from ..engine import second_order
+
+    v = gum.get("second_order_method", 1) if isinstance(gum, Mapping) else 1
+    if isinstance(v, bool) or v not in second_order.METHODS:
+        raise RecordError(f"second-order method {v!r} is not one this release knows ({list(second_order.METHODS)})")
+    return int(v)
+
+
+def recorded_sampler(block: object) -> int:
+    """The sampler version of a recorded Monte Carlo block: its ``sampler``, or 1 for records made before it."""
+    from ..engine import montecarlo
+
+    v = block.get("sampler", 1) if isinstance(block, Mapping) else 1
+    if isinstance(v, bool) or v not in montecarlo.SAMPLERS:
+        raise RecordError(f"Monte Carlo sampler {v!r} is not one this release knows ({list(montecarlo.SAMPLERS)})")
+    return int(v)
 
 
 def _validate(gum, mc):
@@ -1119,40 +1140,45 @@ def verify_record(record: Record | str | Path, *, trusted: str | Path | Mapping 
     measured = check_measurement(record)
     if measured is not None:
         checks.append(Check("measurement", *measured))
-    try:
-        gum_result = evaluate(budget)
-        fresh = gum_result.to_dict()
-    except FieldbudgetError as err:
-        checks.append(Check("GUM", "fail", f"re-evaluation failed: {err}"))
-        return done()
-    diffs = _compare_gum(record.gum, fresh)
-    if diffs:
-        checks.append(Check("GUM", "fail", "recomputed results differ: " + "; ".join(diffs)))
-    else:
-        checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff, the rounded result, the statement, the "
-                                           f"warnings and every contribution agree to the last digit "
-                                           f"(U = {fmt(float(fresh['U']), 6)})"))
+    from ..engine import second_order
 
-    if record.monte_carlo is None:
-        checks.append(Check("Monte Carlo", "info", "no Monte Carlo run in this record"))
-        if record.validation is not None:
-            checks.append(Check("validation", "fail", "the record has a validation block but no Monte Carlo run"))
-    else:
-        mc = record.monte_carlo
+    # the second-order method the record was made with (absent: method 1)
+    with second_order.method_version(recorded_second_order_method(record.gum)):
         try:
-            again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive")))
-        except (FieldbudgetError, TypeError, ValueError) as err:
-            checks.append(Check("Monte Carlo", "fail", f"re-run failed: {err}"))
+            gum_result = evaluate(budget)
+            fresh = gum_result.to_dict()
+        except FieldbudgetError as err:
+            checks.append(Check("GUM", "fail", f"re-evaluation failed: {err}"))
+            return done()
+        diffs = _compare_gum(record.gum, fresh)
+        if diffs:
+            checks.append(Check("GUM", "fail", "recomputed results differ: " + "; ".join(diffs)))
         else:
-            status, detail, exact = _compare_mc(mc, again.to_dict())
-            checks.append(Check("Monte Carlo", status, detail))
-            if status == "pass":
-                try:
-                    checks.append(_compare_validation(record.validation, gum_result, again, mc, exact))
-                except (FieldbudgetError, TypeError, ValueError, KeyError) as err:
-                    checks.append(Check("validation", "fail", f"cannot be recomputed: {err}"))
+            checks.append(Check("GUM", "pass", f"value, u, k, U, nu_eff, the rounded result, the statement, the "
+                                               f"warnings and every contribution agree to the last digit "
+                                               f"(U = {fmt(float(fresh['U']), 6)})"))
+
+        if record.monte_carlo is None:
+            checks.append(Check("Monte Carlo", "info", "no Monte Carlo run in this record"))
+            if record.validation is not None:
+                checks.append(Check("validation", "fail", "the record has a validation block but no Monte Carlo run"))
+        else:
+            mc = record.monte_carlo
+            try:
+                again = _run_monte_carlo(budget, int(mc["trials"]), int(mc["seed"]), bool(mc.get("adaptive")),
+                                         recorded_sampler(mc))
+            except (FieldbudgetError, TypeError, ValueError) as err:
+                checks.append(Check("Monte Carlo", "fail", f"re-run failed: {err}"))
             else:
-                checks.append(Check("validation", "info", "not recomputed: the Monte Carlo block does not hold"))
+                status, detail, exact = _compare_mc(mc, again.to_dict())
+                checks.append(Check("Monte Carlo", status, detail))
+                if status == "pass":
+                    try:
+                        checks.append(_compare_validation(record.validation, gum_result, again, mc, exact))
+                    except (FieldbudgetError, TypeError, ValueError, KeyError) as err:
+                        checks.append(Check("validation", "fail", f"cannot be recomputed: {err}"))
+                else:
+                    checks.append(Check("validation", "info", "not recomputed: the Monte Carlo block does not hold"))
 
     now = software_versions()
     then = _thaw(record.software)

@@ -55,9 +55,20 @@ class _RowView:
                  *self.buttons]
         self.main = css(w.HBox(cells), "fb-input-row")
         self.widget = css(w.VBox([self.main, t["readings"].widget]), "fb-input")
+        self._shown: tuple | None = None
         self.sync()
 
+    def _state(self, last_good: bool) -> tuple:
+        """Everything the row shows; an unchanged state means no widget needs touching."""
+        return (last_good, self.row.relevant(),
+                tuple((k, fl.text, fl.error, fl.value if k in ("distribution", "meaning") else None)
+                      for k, fl in self.row.fields.items()))
+
     def sync(self, last_good: bool = False) -> None:
+        state = self._state(last_good)
+        if state == self._shown:
+            return  # a change elsewhere in the budget: this row shows the same as before
+        self._shown = state
         f = self.row.fields
         for bt in self.texts.values():
             bt.sync(last_good=last_good)
