@@ -20,7 +20,7 @@ from .._display import escape
 from ..drafts.field import Field, message_for
 from ..errors import FieldbudgetError
 
-__all__ = ["BoundText", "Cell", "css", "shared_layout", "shared_style", "guarded", "message_html", "status_html", "user_words", "LAST_GOOD"]
+__all__ = ["BoundText", "Cell", "css", "shared_blank", "shared_layout", "shared_style", "guarded", "message_html", "status_html", "user_words", "LAST_GOOD"]
 
 #: Said beside a refused entry while a budget is on screen.
 LAST_GOOD = "The budget shown is the last good one."
@@ -40,20 +40,33 @@ def css(widget: w.Widget, *classes: str) -> w.Widget:
     return widget
 
 
-@functools.cache
+_SHARED: dict[tuple, w.Widget] = {}
+
+
+def _shared(key: tuple, make: Callable[[], w.Widget]) -> w.Widget:
+    obj = _SHARED.get(key)
+    if obj is None or obj.comm is None:  # a closed one (Widget.close_all()) is made again
+        obj = _SHARED[key] = make()
+    return obj
+
+
 def shared_layout(**props: str) -> w.Layout:
     """One Layout per set of properties, shared by every widget given it.
 
     Never change a shared Layout in place (it would change every widget using
     it): give the widget another one instead, as :meth:`Cell.set_visible` does.
     """
-    return w.Layout(**props)
+    return _shared(("layout", *sorted(props.items())), lambda: w.Layout(**props))
 
 
-@functools.cache
 def shared_style(widget_class: type) -> w.Widget:
     """The default style object of ``widget_class`` (e.g. ``ipywidgets.Text``), one for all; never changed."""
-    return widget_class.style.klass()
+    return _shared(("style", widget_class), widget_class.style.klass)
+
+
+def shared_blank(width: str) -> w.HTML:
+    """An empty widget ``width`` wide, holding the place of a box not made yet (the same one in every row)."""
+    return _shared(("blank", width), lambda: w.HTML(layout=shared_layout(width=width), style=shared_style(w.HTML)))
 
 
 def user_words(text: str | None, label: str = "") -> str:
@@ -166,11 +179,12 @@ class BoundText:
         self._on_text = on_text
         self._syncing = False
         cls = w.Textarea if area else w.Text
+        # only the options given are passed: each one costs a trait notification
+        extra = {k: v for k, v in (("placeholder", placeholder), ("description", description),
+                                   ("tooltip", tooltip)) if v}
         style = {"description_width": "initial"} if description else shared_style(cls)
-        self.box = cls(value=field.text, placeholder=placeholder, continuous_update=False,
-                       description=description, tooltip=tooltip or None, style=style,
-                       layout=shared_layout(width=width),
-                       _dom_classes=("fb-field", f"fb-field-{key or field.name}".replace(" ", "-")))
+        self.box = cls(value=field.text, continuous_update=False, style=style, layout=shared_layout(width=width),
+                       _dom_classes=("fb-field", f"fb-field-{key or field.name}".replace(" ", "-")), **extra)
         self.cell = Cell(self.box, width, on_reshape)
         self.cell.show(message_html(field.error))
         self.box.observe(self._changed, names="value")

@@ -9,17 +9,20 @@ from __future__ import annotations
 import ipywidgets as w
 
 from ..drafts.budget_draft import DISTRIBUTIONS, BudgetDraft, InputRow
-from ._binding import BoundText, Cell, css, guarded, message_html, shared_layout, shared_style, status_html
+from ._binding import BoundText, Cell, css, guarded, message_html, shared_blank, shared_layout, shared_style, status_html
 
 __all__ = ["InputEditor"]
 
 _MEANING_LABELS = (("standard u", "standard"), ("half-width a", "half-width"),
                    ("expanded U (with k)", "expanded"), ("readings (Type A)", "readings"))
+_MEANINGS = tuple(v for _, v in _MEANING_LABELS)
 _WIDTHS = {"symbol": "6em", "estimate": "10em", "unit": "5em", "uncertainty": "8em", "k": "4em",
            "dof": "5em", "source": "14em", "readings": "30em"}
 
 
-_TEXT_KEYS = ("symbol", "estimate", "unit", "uncertainty", "k", "dof", "source")
+_TEXT_KEYS = ("symbol", "estimate", "unit", "uncertainty", "k", "dof", "source", "readings")
+# boxes most rows never show (k only for an expanded uncertainty): made on first need
+_ON_NEED = ("k", "readings")
 # the cells of a row, left to right (then the three buttons)
 _CELLS = ("symbol", "estimate", "unit", "distribution", "uncertainty", "meaning", "k", "dof", "source")
 
@@ -29,9 +32,9 @@ class _RowView:
 
     A row is built from about a dozen widgets: the entry boxes sit straight in
     the row, a message box (and the cell holding box and message) is made the
-    first time a field has a message, the readings area the first time the
-    meaning is "readings", and all rows share their Layout and style objects.
-    That keeps a 100-input editor to about 1 300 widgets (issue 18).
+    first time a field has a message, the k box and the readings area the
+    first time the meaning needs them, and all rows share their Layout and
+    style objects.  That keeps a 100-input editor near 1 300 widgets (issue 18).
     """
 
     def __init__(self, editor: InputEditor, row: InputRow) -> None:
@@ -39,14 +42,15 @@ class _RowView:
         self._editor = editor
         self._built = False
         f = row.fields
-        self.texts = {k: BoundText(f[k], lambda t, k=k: editor._set(self.row, k, t), width=_WIDTHS[k], key=k,
-                                   on_reshape=self._reshape)
-                      for k in _TEXT_KEYS}
+        self.texts: dict[str, BoundText] = {}
+        for k in _TEXT_KEYS:
+            if k not in _ON_NEED:
+                self._text(k)
         dd_style = shared_style(w.Dropdown)
-        self.dist = w.Dropdown(options=DISTRIBUTIONS, value=f["distribution"].value or "normal",
+        self.dist = w.Dropdown(options=DISTRIBUTIONS, index=DISTRIBUTIONS.index(f["distribution"].value or "normal"),
                                layout=shared_layout(width="9em"), style=dd_style,
                                _dom_classes=("fb-field", "fb-field-distribution"))
-        self.meaning = w.Dropdown(options=_MEANING_LABELS, value=f["meaning"].value or "standard",
+        self.meaning = w.Dropdown(options=_MEANING_LABELS, index=_MEANINGS.index(f["meaning"].value or "standard"),
                                   layout=shared_layout(width="11em"), style=dd_style,
                                   _dom_classes=("fb-field", "fb-field-meaning"))
         self.choices = {"distribution": Cell(self.dist, "9em", self._reshape),
@@ -80,7 +84,8 @@ class _RowView:
         return self.choices["meaning"].msg
 
     def _cells(self) -> list[w.Widget]:
-        return [(self.choices[k] if k in self.choices else self.texts[k]).widget for k in _CELLS] + self.buttons
+        return [self.choices[k].widget if k in self.choices else
+                self.texts[k].widget if k in self.texts else shared_blank(_WIDTHS[k]) for k in _CELLS] + self.buttons
 
     def _reshape(self) -> None:
         """A cell became a box-and-message pair (or the readings appeared): put the new widgets in place."""
@@ -97,14 +102,15 @@ class _RowView:
             elif list(self.widget.children) != below:
                 self.widget.children = below
 
-    def _readings(self) -> BoundText:
-        """The readings area, made the first time it is needed (most inputs have no readings)."""
-        bt = self.texts.get("readings")
+    def _text(self, key: str) -> BoundText:
+        """The entry box of ``key``, made now if it does not exist yet."""
+        bt = self.texts.get(key)
         if bt is None:
-            bt = BoundText(self.row.fields["readings"], lambda t: self._editor._set(self.row, "readings", t),
-                           width=_WIDTHS["readings"], key="readings", area=True,
-                           placeholder="readings, one per line", on_reshape=self._reshape)
-            self.texts["readings"] = bt
+            area = key == "readings"
+            bt = BoundText(self.row.fields[key], lambda t: self._editor._set(self.row, key, t), width=_WIDTHS[key],
+                           key=key, area=area, placeholder="readings, one per line" if area else "",
+                           on_reshape=self._reshape)
+            self.texts[key] = bt
             self._reshape()
         return bt
 
@@ -121,8 +127,9 @@ class _RowView:
         self._shown = state
         f = self.row.fields
         keys = self.row.relevant()
-        if "readings" in keys or f["readings"].text or f["readings"].error:
-            self._readings()
+        for k in _ON_NEED:
+            if k in keys:  # a box not shown has nothing to show: its text stays in the draft
+                self._text(k)
         for bt in self.texts.values():
             bt.sync(last_good=last_good)
         self._syncing = True
