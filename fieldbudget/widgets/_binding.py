@@ -160,6 +160,11 @@ class Cell:
         if self.widget.layout is not layout:
             self.widget.layout = layout
 
+    def close(self) -> None:
+        """Close the widgets this cell made and its control (shared layouts and styles stay)."""
+        for widget in {id(x): x for x in (self.widget, self._msg, self.control) if x is not None}.values():
+            widget.close()
+
 
 class BoundText:
     """An entry box over a :class:`Field` with its message just below it.
@@ -220,3 +225,6 @@ class BoundText:
     def set_visible(self, visible: bool, keep_space: bool = False) -> None:
         """Show or hide; ``keep_space`` hides without moving the boxes after it (table-like rows)."""
         self.cell.set_visible(visible, keep_space)
+
+    def close(self) -> None:
+        self.cell.close()

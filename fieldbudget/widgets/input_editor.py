@@ -114,6 +114,13 @@ class _RowView:
             self._reshape()
         return bt
 
+    def close(self) -> None:
+        """Close the widgets of this row (a removed row, or the editor closing)."""
+        for part in (*self.texts.values(), *self.choices.values()):
+            part.close()
+        for widget in (*self.buttons, self.main, self.widget):
+            widget.close()
+
     def _state(self, last_good: bool) -> tuple:
         """Everything the row shows; an unchanged state means no widget needs touching."""
         return (last_good, self.row.relevant(),
@@ -235,6 +242,9 @@ class InputEditor(w.VBox):
         views = {}
         for r in d.rows:
             views[r.id] = self._row_views.get(r.id) or _RowView(self, r)
+        for rid, old in self._row_views.items():
+            if rid not in views:
+                old.close()  # a removed row
         self._row_views = views
         self._place_rows()
         self._corr_views = [BoundText(f, lambda t, a=a, b=b: self._set_corr(a, b, t), width="6em",
@@ -258,6 +268,8 @@ class InputEditor(w.VBox):
 
     def close(self) -> None:
         self._unsubscribe()
+        for rv in self._row_views.values():
+            rv.close()
         super().close()
 
     def __repr__(self) -> str:
