@@ -20,7 +20,8 @@ from .._display import escape
 from ..drafts.field import Field, message_for
 from ..errors import FieldbudgetError
 
-__all__ = ["BoundText", "Cell", "css", "shared_blank", "shared_layout", "shared_style", "guarded", "message_html", "status_html", "user_words", "LAST_GOOD"]
+__all__ = ["BoundText", "Cell", "css", "guarded", "message_html", "shared_blank", "shared_layout", "shared_style",
+           "status_html", "user_words", "LAST_GOOD"]
 
 #: Said beside a refused entry while a budget is on screen.
 LAST_GOOD = "The budget shown is the last good one."
