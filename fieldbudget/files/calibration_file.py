@@ -61,7 +61,9 @@ _SECTIONS = {
     "decision_rule": {"rule", "guard_band_T"},
 }
 _POINT = {"id", "reference", "readings_T", "readings_csv", "reversed_readings_T", "u_reversal_T", "temperature_C",
-          "u_temperature_C", "gradient_T_per_m", "u_gradient_T_per_m", "resolution_T", "pooled_sd_T", "pooled_dof"}
+          "u_temperature_C", "gradient_T_per_m", "u_gradient_T_per_m", "resolution_T", "pooled_sd_T", "pooled_dof",
+          "field_map"}
+_MAP = {"path", "nmr_position_m", "hall_position_m", "order", "nucleus"}
 _REF_VALUE = {"value_T", "u_T", "dof", "source"}
 _REF_FILE = {"measurement"}
 _REF_BUDGET = {"budget", "from", "input_order"}
@@ -331,6 +333,52 @@ class CalibrationFile:
         p = Path(rel)
         return p if p.is_absolute() else Path(self.base_dir) / p
 
+    def _gradient(self, p: _At) -> tuple[float, float]:
+        """The point's gradient and its u (T/m): typed, or from its ``field_map``."""
+        if not p.has("field_map"):
+            return p.num("gradient_T_per_m", 0.0), p.num("u_gradient_T_per_m", 0.0, nonneg=True)
+        return self._map_gradient(p)[:2]
+
+    def _map_gradient(self, p: _At) -> tuple[float, float, float, Path]:
+        """(G, u(G), d, map path) from the point's field map (:func:`fieldbudget.nmr.fieldmap.calibration_offset`):
+        G = (B(Hall) - B(NMR))/d over d = |hall - nmr|, with u(G) from the fit's covariance."""
+        from ..nmr import fieldmap
+
+        for k in ("gradient_T_per_m", "u_gradient_T_per_m"):
+            if p.has(k):
+                raise p.fail(k, "give either field_map or the typed gradient, not both")
+        spec = _At(p.data["field_map"], p.at("field_map"), self.where).obj(_MAP, "a field map")
+        rel = spec.text("path")
+        if not rel:
+            raise spec.fail("path", "missing: the path of the map's CSV file (x_m,y_m,z_m and f_Hz or B_T)")
+        pos = {}
+        for k in ("nmr_position_m", "hall_position_m"):
+            if not spec.has(k):
+                raise spec.fail(k, "missing: [x, y, z] in m, in the map's coordinates")
+            pos[k] = spec.numbers(k, "three coordinates x, y, z in m")
+            if len(pos[k]) != 3:
+                raise spec.fail(k, f"must be three coordinates x, y, z in m (got {len(pos[k])})")
+        order = spec.num("order", 4.0, positive=True)
+        if order != int(order):
+            raise spec.fail("order", f"must be a whole number (got {order!r})")
+        path = self._path(rel)
+        try:
+            fit = fieldmap.fit_map(fieldmap.read_map(path, nucleus=spec.text("nucleus") or None), int(order))
+            got = fieldmap.calibration_offset(fit, pos["nmr_position_m"], pos["hall_position_m"])
+        except BudgetFileError as err:
+            raise spec.fail("path", f"{rel!r}, {err.pointer}: {err.reason}" if err.pointer else
+                            f"{rel!r}: {err.reason}") from None
+        except FieldbudgetError as err:
+            raise spec.fail("path", f"{rel!r}: {err}") from None
+        d = got["position_offset_m"]
+        pos_offset = (self.content.get("position_offset") or {}).get("value_m")
+        if not isinstance(pos_offset, (int, float)) or isinstance(pos_offset, bool) or \
+                abs(abs(float(pos_offset)) - d) > 1e-3 * d:
+            raise spec.fail("hall_position_m", f"is {d:.6g} m from nmr_position_m; position_offset.value_m must be "
+                            f"that distance (got {pos_offset!r}), so that G d is the field difference the map gives")
+        sign = 1.0 if float(pos_offset) >= 0 else -1.0
+        return sign * got["gradient_t_per_m"], got["u_gradient_t_per_m"], d, path
+
     def _readings(self, p: _At) -> tuple[list[float], str | None]:
         if p.has("readings_T"):
             return p.numbers("readings_T", "the instrument's indications in T"), None
@@ -442,14 +490,14 @@ class CalibrationFile:
             u_t = p.num("u_temperature_C", u_env, nonneg=True)
             if not tc:  # without a temperature coefficient the temperatures have no effect on the error
                 t, u_t = float(t_ref), 0.0
+            grad = self._gradient(p)
             try:
                 points.append(CalibrationPoint(
                     reference=ref, readings_t=tuple(readings), reversed_readings_t=tuple(reversed_),
                     u_reversal_t=p.num("u_reversal_T", 0.0, nonneg=True),
                     temperature_difference_k=t - float(t_ref),
                     u_temperature_difference_k=u_t,
-                    gradient_t_per_m=p.num("gradient_T_per_m", 0.0),
-                    u_gradient_t_per_m=p.num("u_gradient_T_per_m", 0.0, nonneg=True),
+                    gradient_t_per_m=grad[0], u_gradient_t_per_m=grad[1],
                     resolution_t=p.num("resolution_T", positive=True) if p.has("resolution_T") else None,
                     pooled_sd_t=p.num("pooled_sd_T", positive=True) if p.has("pooled_sd_T") else None,
                     pooled_dof=p.num("pooled_dof", positive=True) if p.has("pooled_dof") else None,
@@ -506,6 +554,12 @@ class CalibrationFile:
                               "used_for": f"#/points/{i}/readings_csv"})
                 del raw["readings_csv"]
                 raw["readings_T"] = readings
+            if isinstance(raw.get("field_map"), Mapping):
+                g, u_g, _, map_path = self._map_gradient(p)
+                files.append({"path": raw["field_map"]["path"], "sha256": _sha256(map_path),
+                              "used_for": f"#/points/{i}/field_map"})
+                del raw["field_map"]
+                raw["gradient_T_per_m"], raw["u_gradient_T_per_m"] = g, u_g
             ref, path = self._reference(p, i)
             if isinstance(raw["reference"].get("measurement"), Mapping):
                 raw["reference"] = {"budget": ref.to_dict(), "from": "NMR measurement given in the file",

@@ -96,3 +96,63 @@ def test_readings_csv_and_measurement_reference_are_resolved_into_the_content(tm
     b = CalibrationFile.from_dict(json.loads(json.dumps(resolved, sort_keys=True)), where="r").evaluate(
         seed=3, monte_carlo=20_000).to_dict()
     assert a["points"] == b["points"] and a["curve"] == b["curve"]
+
+
+def _gradient_map(path, b0, g):
+    """A map of B_z = b0 + g x on a 5 x 5 x 5 grid (x, y, z in -10..10 mm): a linear field satisfies Laplace's
+    equation, so the harmonic fit represents it exactly (common practice)."""
+    lines = ["x_m,y_m,z_m,B_T,u_B_T"]
+    steps = [-0.01, -0.005, 0.0, 0.005, 0.01]
+    for x in steps:
+        for y in steps:
+            for z in steps:
+                lines.append(f"{x},{y},{z},{b0 + g * x!r},1e-7")
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+
+
+def test_a_point_takes_its_gradient_from_a_field_map(tmp_path):
+    """`field_map` at a point: G = (B(Hall) - B(NMR))/d from the fitted expansion, checked against the
+    gradient the synthetic map was made with; the point then evaluates as with that gradient typed, and the
+    resolved content carries the numbers and the map's SHA-256."""
+    import hashlib
+
+    d = _base()
+    d["propagation"] = "gum"
+    d["position_offset"] = {"value_m": 0.008, "u_m": 0.0002}
+    _gradient_map(tmp_path / "map.csv", 0.5, 0.05)
+    d["points"][0]["field_map"] = {"path": "map.csv", "nmr_position_m": [0, 0, 0], "hall_position_m": [0.008, 0, 0],
+                                   "order": 2}
+    cal = CalibrationFile.from_dict(d, where="cal.json", base_dir=tmp_path)
+    resolved, files = cal.resolved()
+    p0 = resolved["points"][0]
+    assert "field_map" not in p0
+    assert p0["gradient_T_per_m"] == pytest.approx(0.05, rel=1e-9)
+    assert 0 < p0["u_gradient_T_per_m"] < 1e-4
+    assert files == [{"path": "map.csv", "sha256": hashlib.sha256((tmp_path / "map.csv").read_bytes()).hexdigest(),
+                      "used_for": "#/points/0/field_map"}]
+    typed = copy.deepcopy(d)
+    del typed["points"][0]["field_map"]
+    typed["points"][0].update(gradient_T_per_m=p0["gradient_T_per_m"], u_gradient_T_per_m=p0["u_gradient_T_per_m"])
+    a = cal.evaluate().to_dict()["points"]
+    b = CalibrationFile.from_dict(typed, where="typed").evaluate().to_dict()["points"]
+    assert a == b
+    point = cal.calibration_set().points[0]
+    assert point.gradient_t_per_m == pytest.approx(0.05, rel=1e-9)   # G d = 0.4 mT between NMR and Hall
+
+
+@pytest.mark.parametrize("edit, words", [
+    (lambda p: p.update(gradient_T_per_m=0.01), "either field_map or the typed gradient"),
+    (lambda p: p["field_map"].pop("hall_position_m"), "hall_position_m: missing"),
+    (lambda p: p["field_map"].update(hall_position_m=[0.004, 0, 0]), "position_offset.value_m must be that distance"),
+    (lambda p: p["field_map"].update(path="nope.csv"), "field_map/path"),
+])
+def test_field_map_mistakes_are_named_by_place(tmp_path, edit, words):
+    d = _base()
+    d["position_offset"] = {"value_m": 0.008, "u_m": 0.0002}
+    _gradient_map(tmp_path / "map.csv", 0.5, 0.05)
+    d["points"][0]["field_map"] = {"path": "map.csv", "nmr_position_m": [0, 0, 0], "hall_position_m": [0.008, 0, 0],
+                                   "order": 2}
+    edit(d["points"][0])
+    with pytest.raises(BudgetFileError) as info:
+        CalibrationFile.from_dict(d, where="cal.json", base_dir=tmp_path).calibration_set()
+    assert words in str(info.value) and "\n" not in str(info.value)

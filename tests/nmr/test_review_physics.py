@@ -205,6 +205,13 @@ def test_detection_shift_enters_the_budget():
     # a 2.5 Hz observed line cannot come from this sample at 64 MHz
     narrow = _m(sample=sample, line={"fwhm_Hz": 2.5}).evaluate()
     assert [f.severity for f in narrow.findings if f.code == "nmr.line_narrower_than_sample"] == ["invalid"]
+    # the laboratory may state its own u of the shift, as a fraction of it (0 to 1)
+    own = _m(sample=sample, line=dict(line, u_detection_fraction=0.2)).to_budget().input("d_det")
+    assert own.estimate == q.estimate and own.standard_uncertainty == pytest.approx(0.2 * abs(expect))
+    from fieldbudget.errors import BudgetFileError
+
+    with pytest.raises(BudgetFileError, match="u_detection_fraction"):
+        _m(sample=sample, line=dict(line, u_detection_fraction=1.5)).to_budget()
 
 
 # --- curvature, susceptibility, units ------------------------------------------------------------

@@ -6,8 +6,9 @@ Inside a finite cylinder the local field is spread
 line (the distribution convolved with the natural line), a Lorentzian fit
 something near it.  ``peak`` and ``fit`` add d_det, the computed shift of
 that centre from the mean, as a factor (1 + d_det) of the field at the
-nuclei, with u = |d_det|/2 (our assignment: the computation assumes an ideal
-uniform cylinder and a Lorentzian natural line).  Spheres, ellipsoids and
+nuclei, with u = |d_det|/2 by default (our assignment: the computation assumes an
+ideal uniform cylinder and a Lorentzian natural line; ``line.u_detection_fraction``
+states another fraction).  Spheres, ellipsoids and
 long cylinders have a uniform field: no shift.  Findings warn when the spread
 is comparable with the linewidth (the method then matters), and when a stated
 linewidth is narrower than the spread (the sample cannot show such a line).
@@ -43,12 +44,13 @@ def _build(ctx: Context) -> Built | None:
     findings = []
     inputs, terms = (), ()
     shift = 0.0
+    fraction = ln.number("u_detection_fraction", 0.5)
     if detection != "centroid":
         shift = lf.centre(chi, detection, (natural or 0.0) / f)
         how = (f"{detection} of the line of a uniformly magnetised cylinder, L/D = {info['ratio']:g} {info['axis']} "
                f"to B0, chi = {chi:.4g}, natural width {natural or 0:g} Hz: local-field distribution with the "
-               f"Lorentz-sphere field (fieldbudget.nmr.lineshape); u = half the shift")
-        inputs = (InputQuantity("d_det", shift, Normal(u=abs(shift) / 2), unit="", source=how,
+               f"Lorentz-sphere field (fieldbudget.nmr.lineshape); u = {fraction:g} x the shift")
+        inputs = (InputQuantity("d_det", shift, Normal(u=abs(shift) * fraction), unit="", source=how,
                                 role="lab_characterisation",
                                 description=f"shift of the line's {detection} from the volume mean of the local field"),)
         terms = (Term("denominator", "(1 + d_det)"),)
@@ -77,6 +79,9 @@ COMPONENT = Component(
         Key("detection", "choice", "how the centre is found", "`centroid` (default: the volume mean, no shift), "
             "`peak` (the line's maximum) or `fit` (a Lorentzian fit): for a finite cylinder the matching shift "
             "d_det from the volume mean is added", choices=lineshape.DETECTIONS),
+        Key("u_detection_fraction", "number", "u of the detection shift, as a fraction of it",
+            "default 0.5 (our assignment: the shift is computed for an ideal uniform cylinder and a Lorentzian "
+            "natural line); a laboratory that has checked its sample's shape states its own", lo=0.0, hi=1.0),
     ),
     build=_build,
 )
