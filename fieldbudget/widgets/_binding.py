@@ -20,7 +20,8 @@ from .._display import escape
 from ..drafts.field import Field, message_for
 from ..errors import FieldbudgetError
 
-__all__ = ["BoundText", "css", "guarded", "message_html", "status_html", "user_words", "LAST_GOOD"]
+__all__ = ["BoundText", "Cell", "css", "guarded", "message_html", "shared_blank", "shared_layout", "shared_style",
+           "status_html", "user_words", "LAST_GOOD"]
 
 #: Said beside a refused entry while a budget is on screen.
 LAST_GOOD = "The budget shown is the last good one."
@@ -38,6 +39,35 @@ def css(widget: w.Widget, *classes: str) -> w.Widget:
     for c in classes:
         widget.add_class(c)
     return widget
+
+
+_SHARED: dict[tuple, w.Widget] = {}
+
+
+def _shared(key: tuple, make: Callable[[], w.Widget]) -> w.Widget:
+    obj = _SHARED.get(key)
+    if obj is None or obj.comm is None:  # a closed one (Widget.close_all()) is made again
+        obj = _SHARED[key] = make()
+    return obj
+
+
+def shared_layout(**props: str) -> w.Layout:
+    """One Layout per set of properties, shared by every widget given it.
+
+    Never change a shared Layout in place (it would change every widget using
+    it): give the widget another one instead, as :meth:`Cell.set_visible` does.
+    """
+    return _shared(("layout", *sorted(props.items())), lambda: w.Layout(**props))
+
+
+def shared_style(widget_class: type) -> w.Widget:
+    """The default style object of ``widget_class`` (e.g. ``ipywidgets.Text``), one for all; never changed."""
+    return _shared(("style", widget_class), widget_class.style.klass)
+
+
+def shared_blank(width: str) -> w.HTML:
+    """An empty widget ``width`` wide, holding the place of a box not made yet (the same one in every row)."""
+    return _shared(("blank", width), lambda: w.HTML(layout=shared_layout(width=width), style=shared_style(w.HTML)))
 
 
 def user_words(text: str | None, label: str = "") -> str:
@@ -85,30 +115,93 @@ def guarded(fn: Callable) -> Callable:
     return wrapper
 
 
+class Cell:
+    """A control with its message below it; the message box is made on first need.
+
+    Until a message is shown (or :attr:`msg` is read), :attr:`widget` is the
+    control itself; then it becomes a ``VBox([control, msg])`` with the class
+    ``fb-cell`` and ``on_reshape()`` is called so that the owner puts the new
+    widget in place of the old.  ``on_reshape=None`` makes the message box at once.
+    """
+
+    __slots__ = ("_msg", "_on_reshape", "control", "widget", "width")
+
+    def __init__(self, control: w.Widget, width: str, on_reshape: Callable[[], None] | None = None) -> None:
+        self.control = control
+        self.width = width
+        self.widget = control
+        self._msg: w.HTML | None = None
+        self._on_reshape = on_reshape
+        if on_reshape is None:
+            self.msg  # noqa: B018 (made now: the owner places the widget once)
+
+    @property
+    def msg(self) -> w.HTML:
+        """The message box (``fb-msg``), made now if it does not exist yet."""
+        if self._msg is None:
+            self._msg = w.HTML(layout=shared_layout(), style=shared_style(w.HTML), _dom_classes=("fb-msg",))
+            outer = self.widget.layout  # the cell takes over the control's width and visibility
+            self.control.layout = shared_layout(width=self.width)
+            self.widget = w.VBox([self.control, self._msg], layout=outer, _dom_classes=("fb-cell",))
+            if self._on_reshape is not None:
+                self._on_reshape()
+        return self._msg
+
+    def show(self, html: str) -> None:
+        """Show ``html`` below the control (an empty text makes no widget)."""
+        if (html or self._msg is not None) and self.msg.value != html:
+            self.msg.value = html
+
+    def set_visible(self, visible: bool, keep_space: bool = False) -> None:
+        """Show or hide; ``keep_space`` hides without moving the boxes after it (table-like rows)."""
+        props = {"width": self.width}
+        if not visible:
+            props["visibility" if keep_space else "display"] = "hidden" if keep_space else "none"
+        layout = shared_layout(**props)
+        if self.widget.layout is not layout:
+            self.widget.layout = layout
+
+    def close(self) -> None:
+        """Close the widgets this cell made and its control (shared layouts and styles stay)."""
+        for widget in {id(x): x for x in (self.widget, self._msg, self.control) if x is not None}.values():
+            widget.close()
+
+
 class BoundText:
     """An entry box over a :class:`Field` with its message just below it.
 
     ``on_text(text)`` is called with the new text when the user commits it
-    (Enter or leaving the box; ``continuous_update=False``).
+    (Enter or leaving the box; ``continuous_update=False``).  With
+    ``on_reshape`` the message box is made only when needed (see :class:`Cell`).
     """
 
-    __slots__ = ("_on_text", "_syncing", "box", "field", "msg", "widget")
+    __slots__ = ("_on_text", "_syncing", "box", "cell", "field")
 
     def __init__(self, field: Field, on_text: Callable[[str], None], *, width: str = "8em",
                  placeholder: str = "", key: str = "", area: bool = False,
-                 description: str = "", tooltip: str = "") -> None:
+                 description: str = "", tooltip: str = "",
+                 on_reshape: Callable[[], None] | None = None) -> None:
         self.field = field
         self._on_text = on_text
         self._syncing = False
         cls = w.Textarea if area else w.Text
-        style = {"description_width": "initial"} if description else {}
-        self.box = cls(value=field.text, placeholder=placeholder, continuous_update=False,
-                       description=description, tooltip=tooltip or None, style=style,
-                       layout=w.Layout(width=width))
-        css(self.box, "fb-field", f"fb-field-{key or field.name}".replace(" ", "-"))
-        self.msg = css(w.HTML(message_html(field.error)), "fb-msg")
-        self.widget = css(w.VBox([self.box, self.msg], layout=w.Layout(width=width)), "fb-cell")
+        # only the options given are passed: each one costs a trait notification
+        extra = {k: v for k, v in (("placeholder", placeholder), ("description", description),
+                                   ("tooltip", tooltip)) if v}
+        style = {"description_width": "initial"} if description else shared_style(cls)
+        self.box = cls(value=field.text, continuous_update=False, style=style, layout=shared_layout(width=width),
+                       _dom_classes=("fb-field", f"fb-field-{key or field.name}".replace(" ", "-")), **extra)
+        self.cell = Cell(self.box, width, on_reshape)
+        self.cell.show(message_html(field.error))
         self.box.observe(self._changed, names="value")
+
+    @property
+    def msg(self) -> w.HTML:
+        return self.cell.msg
+
+    @property
+    def widget(self) -> w.Widget:
+        return self.cell.widget
 
     def _changed(self, change) -> None:
         if not self._syncing:
@@ -122,9 +215,7 @@ class BoundText:
         try:
             if self.box.value != self.field.text:
                 self.box.value = self.field.text
-            m = message_html(self.field.error, last_good=last_good)
-            if self.msg.value != m:
-                self.msg.value = m
+            self.cell.show(message_html(self.field.error, last_good=last_good))
             if self.field.error:
                 self.box.add_class("fb-bad")
             else:
@@ -134,7 +225,7 @@ class BoundText:
 
     def set_visible(self, visible: bool, keep_space: bool = False) -> None:
         """Show or hide; ``keep_space`` hides without moving the boxes after it (table-like rows)."""
-        if keep_space:
-            self.widget.layout.visibility = None if visible else "hidden"
-        else:
-            self.widget.layout.display = None if visible else "none"
+        self.cell.set_visible(visible, keep_space)
+
+    def close(self) -> None:
+        self.cell.close()

@@ -9,32 +9,52 @@ from __future__ import annotations
 import ipywidgets as w
 
 from ..drafts.budget_draft import DISTRIBUTIONS, BudgetDraft, InputRow
-from ._binding import BoundText, css, guarded, message_html, status_html
+from ._binding import BoundText, Cell, css, guarded, message_html, shared_blank, shared_layout, shared_style, status_html
 
 __all__ = ["InputEditor"]
 
 _MEANING_LABELS = (("standard u", "standard"), ("half-width a", "half-width"),
                    ("expanded U (with k)", "expanded"), ("readings (Type A)", "readings"))
+_MEANINGS = tuple(v for _, v in _MEANING_LABELS)
 _WIDTHS = {"symbol": "6em", "estimate": "10em", "unit": "5em", "uncertainty": "8em", "k": "4em",
            "dof": "5em", "source": "14em", "readings": "30em"}
 
 
+_TEXT_KEYS = ("symbol", "estimate", "unit", "uncertainty", "k", "dof", "source", "readings")
+# boxes most rows never show (k only for an expanded uncertainty): made on first need
+_ON_NEED = ("k", "readings")
+# the cells of a row, left to right (then the three buttons)
+_CELLS = ("symbol", "estimate", "unit", "distribution", "uncertainty", "meaning", "k", "dof", "source")
+
+
 class _RowView:
-    """The widgets of one input row."""
+    """The widgets of one input row.
+
+    A row is built from about a dozen widgets: the entry boxes sit straight in
+    the row, a message box (and the cell holding box and message) is made the
+    first time a field has a message, the k box and the readings area the
+    first time the meaning needs them, and all rows share their Layout and
+    style objects.  That keeps a 100-input editor near 1 300 widgets (issue 18).
+    """
 
     def __init__(self, editor: InputEditor, row: InputRow) -> None:
         self.row = row
+        self._editor = editor
+        self._built = False
         f = row.fields
-        self.texts = {k: BoundText(f[k], lambda t, k=k: editor._set(self.row, k, t), width=_WIDTHS[k], key=k,
-                                   area=(k == "readings"), placeholder="readings, one per line" if k == "readings"
-                                   else "")
-                      for k in ("symbol", "estimate", "unit", "uncertainty", "k", "dof", "source", "readings")}
-        self.dist = css(w.Dropdown(options=DISTRIBUTIONS, value=f["distribution"].value or "normal",
-                                   layout=w.Layout(width="9em")), "fb-field", "fb-field-distribution")
-        self.meaning = css(w.Dropdown(options=_MEANING_LABELS, value=f["meaning"].value or "standard",
-                                      layout=w.Layout(width="11em")), "fb-field", "fb-field-meaning")
-        self.dist_msg = css(w.HTML(), "fb-msg")
-        self.meaning_msg = css(w.HTML(), "fb-msg")
+        self.texts: dict[str, BoundText] = {}
+        for k in _TEXT_KEYS:
+            if k not in _ON_NEED:
+                self._text(k)
+        dd_style = shared_style(w.Dropdown)
+        self.dist = w.Dropdown(options=DISTRIBUTIONS, index=DISTRIBUTIONS.index(f["distribution"].value or "normal"),
+                               layout=shared_layout(width="9em"), style=dd_style,
+                               _dom_classes=("fb-field", "fb-field-distribution"))
+        self.meaning = w.Dropdown(options=_MEANING_LABELS, index=_MEANINGS.index(f["meaning"].value or "standard"),
+                                  layout=shared_layout(width="11em"), style=dd_style,
+                                  _dom_classes=("fb-field", "fb-field-meaning"))
+        self.choices = {"distribution": Cell(self.dist, "9em", self._reshape),
+                        "meaning": Cell(self.meaning, "11em", self._reshape)}
         self._syncing = False
         self.dist.observe(lambda ch: self._syncing or editor._set(self.row, "distribution", ch["new"]),
                           names="value")
@@ -44,19 +64,62 @@ class _RowView:
                    ("\u2193", "move down", lambda _: editor._move(self.row, +1), "fb-row-down"),
                    ("\u2715", "remove this input", lambda _: editor._remove(self.row), "fb-row-remove")]
         self.buttons = []
+        b_layout, b_style = shared_layout(width="2.5em"), shared_style(w.Button)
         for label, tip, fn, cls in buttons:
-            b = css(w.Button(description=label, tooltip=tip, layout=w.Layout(width="2.5em")), cls)
+            b = w.Button(description=label, tooltip=tip, layout=b_layout, style=b_style, _dom_classes=(cls,))
             b.on_click(fn)
             self.buttons.append(b)
-        t = self.texts
-        cells = [t["symbol"].widget, t["estimate"].widget, t["unit"].widget,
-                 w.VBox([self.dist, self.dist_msg]), t["uncertainty"].widget,
-                 w.VBox([self.meaning, self.meaning_msg]), t["k"].widget, t["dof"].widget, t["source"].widget,
-                 *self.buttons]
-        self.main = css(w.HBox(cells), "fb-input-row")
-        self.widget = css(w.VBox([self.main, t["readings"].widget]), "fb-input")
+        self.main = w.HBox(self._cells(), layout=shared_layout(), _dom_classes=("fb-input-row",))
+        self.widget: w.Widget = self.main  # a VBox with the readings below, once there are readings
+        self._built = True
         self._shown: tuple | None = None
         self.sync()
+
+    @property
+    def dist_msg(self) -> w.HTML:
+        return self.choices["distribution"].msg
+
+    @property
+    def meaning_msg(self) -> w.HTML:
+        return self.choices["meaning"].msg
+
+    def _cells(self) -> list[w.Widget]:
+        return [self.choices[k].widget if k in self.choices else
+                self.texts[k].widget if k in self.texts else shared_blank(_WIDTHS[k]) for k in _CELLS] + self.buttons
+
+    def _reshape(self) -> None:
+        """A cell became a box-and-message pair (or the readings appeared): put the new widgets in place."""
+        if not self._built:
+            return
+        cells = self._cells()
+        if list(self.main.children) != cells:
+            self.main.children = cells
+        if "readings" in self.texts:
+            below = [self.main, self.texts["readings"].widget]
+            if self.widget is self.main:
+                self.widget = w.VBox(below, layout=shared_layout(), _dom_classes=("fb-input",))
+                self._editor._place_rows()
+            elif list(self.widget.children) != below:
+                self.widget.children = below
+
+    def _text(self, key: str) -> BoundText:
+        """The entry box of ``key``, made now if it does not exist yet."""
+        bt = self.texts.get(key)
+        if bt is None:
+            area = key == "readings"
+            bt = BoundText(self.row.fields[key], lambda t: self._editor._set(self.row, key, t), width=_WIDTHS[key],
+                           key=key, area=area, placeholder="readings, one per line" if area else "",
+                           on_reshape=self._reshape)
+            self.texts[key] = bt
+            self._reshape()
+        return bt
+
+    def close(self) -> None:
+        """Close the widgets of this row (a removed row, or the editor closing)."""
+        for part in (*self.texts.values(), *self.choices.values()):
+            part.close()
+        for widget in (*self.buttons, self.main, self.widget):
+            widget.close()
 
     def _state(self, last_good: bool) -> tuple:
         """Everything the row shows; an unchanged state means no widget needs touching."""
@@ -70,22 +133,24 @@ class _RowView:
             return  # a change elsewhere in the budget: this row shows the same as before
         self._shown = state
         f = self.row.fields
+        keys = self.row.relevant()
+        for k in _ON_NEED:
+            if k in keys:  # a box not shown has nothing to show: its text stays in the draft
+                self._text(k)
         for bt in self.texts.values():
             bt.sync(last_good=last_good)
         self._syncing = True
         try:
-            for dd, key, msg in ((self.dist, "distribution", self.dist_msg),
-                                 (self.meaning, "meaning", self.meaning_msg)):
+            for dd, key in ((self.dist, "distribution"), (self.meaning, "meaning")):
                 if f[key].value is not None and dd.value != f[key].value:
                     dd.value = f[key].value
-                msg.value = message_html(f[key].error)
+                self.choices[key].show(message_html(f[key].error))
         finally:
             self._syncing = False
-        keys = self.row.relevant()
         for k, bt in self.texts.items():
             bt.set_visible(k in keys, keep_space=k != "readings")
-        for dd, key in ((self.dist, "distribution"), (self.meaning, "meaning")):
-            dd.layout.visibility = None if key in keys else "hidden"
+        for key, cell in self.choices.items():
+            cell.set_visible(key in keys, keep_space=True)
 
 
 class InputEditor(w.VBox):
@@ -177,8 +242,11 @@ class InputEditor(w.VBox):
         views = {}
         for r in d.rows:
             views[r.id] = self._row_views.get(r.id) or _RowView(self, r)
+        for rid, old in self._row_views.items():
+            if rid not in views:
+                old.close()  # a removed row
         self._row_views = views
-        self.rows_box.children = [views[r.id].widget for r in d.rows]
+        self._place_rows()
         self._corr_views = [BoundText(f, lambda t, a=a, b=b: self._set_corr(a, b, t), width="6em",
                                       key="correlation") for a, b, f in d.correlations]
         self.corr_box.children = [w.HBox([w.HTML(f"r({a}, {b})", layout=w.Layout(width="10em")), bt.widget])
@@ -189,12 +257,19 @@ class InputEditor(w.VBox):
         if len(symbols) > 1:
             self.corr_a.value, self.corr_b.value = symbols[0], symbols[1]
 
+    def _place_rows(self) -> None:
+        children = [self._row_views[r.id].widget for r in self.draft.rows if r.id in self._row_views]
+        if list(self.rows_box.children) != children:
+            self.rows_box.children = children
+
     @guarded
     def _set_corr(self, a: str, b: str, text: str) -> None:
         self.draft.set_correlation(a, b, text)
 
     def close(self) -> None:
         self._unsubscribe()
+        for rv in self._row_views.values():
+            rv.close()
         super().close()
 
     def __repr__(self) -> str:
