@@ -80,7 +80,7 @@ def run(args: argparse.Namespace) -> int:
     from ..files.record_details import findings_of
 
     for f in findings_of(rec):
-        print(f"warning: {f}")
+        print(f"{'note' if getattr(f, 'severity', 'warning') == 'note' else 'warning'}: {f}")
     for c in rec.changes:
         print(f"changed: {c['change']} {c['what']}: {c['detail']}")
     for s in rec.signatures:

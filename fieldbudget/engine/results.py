@@ -229,8 +229,9 @@ class BudgetResult:
             lines.append(f"Validation (JCGM 101 clause 8): GUM result {word}; d_low = {D.fmt(v.d_low, 3)}{unit}, "
                          f"d_high = {D.fmt(v.d_high, 3)}{unit}, tolerance delta = {D.fmt(v.delta, 3)}{unit}.")
             lines += textwrap.wrap(v.advice, width)
-        for w in self.warnings:
-            lines += textwrap.wrap(f"warning: {w}", width, subsequent_indent="  ")
+        for w in self.warnings:  # a note records a choice made; a warning asks for attention
+            label = "note" if getattr(w, "severity", "warning") == "note" else "warning"
+            lines += textwrap.wrap(f"{label}: {w}", width, subsequent_indent="  ")
         out = []
         for line in lines:
             # the table keeps its own layout; every other line wraps at the terminal's width

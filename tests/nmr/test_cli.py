@@ -55,7 +55,7 @@ def test_larmor_user_errors_exit_2(capsys, argv, words):
 def test_nmr_text_and_json(capsys):
     code, out, _ = run(capsys, "nmr", str(DATA / "low_field_47mT.json"))
     # six repeated readings: the line noise is in their scatter, not added again, and the output says so
-    assert code == 0 and "Model: B0 = (f_read + d_res) " in out and "warning: the line-centre noise" in out
+    assert code == 0 and "Model: B0 = (f_read + d_res) " in out and "note: the line-centre noise" in out
     code, out, _ = run(capsys, "nmr", str(DATA / "low_field_47mT.json"), "--json")
     d = json.loads(out)
     assert any("already in the scatter of the 6 repeated readings" in w for w in d["warnings"])
