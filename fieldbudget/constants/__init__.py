@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from fieldbudget.constants._tables import (
     DEFAULT_EDITION,
+    DERIVED_NAMES,
     check_edition,
     deuteron_gyromagnetic_ratio,
     editions,
@@ -30,6 +31,7 @@ from fieldbudget.constants._value import NuclearSpinData, ReferenceValue, concis
 
 __all__ = [
     "DEFAULT_EDITION",
+    "DERIVED_NAMES",
     "ReferenceValue",
     "NuclearSpinData",
     "editions",

@@ -28,6 +28,7 @@ _EDITIONS = (2014, 2018, 2022)
 #: Names of the values derived here (not CODATA entries); lookup() accepts them.
 DEUTERON_GAMMA = "deuteron gyromag. ratio"
 DEUTERON_GAMMA_MHZ = "deuteron gyromag. ratio in MHz/T"
+DERIVED_NAMES = frozenset({DEUTERON_GAMMA, DEUTERON_GAMMA_MHZ})
 
 # Exact values whose table entry is printed truncated ("..."): computed from
 # their definition.  Keys are the data files' ``defined_as`` strings.

@@ -328,7 +328,7 @@ def rebase(budget: Budget, edition: int) -> Budget:
     referring to other tables (IUPAC, water data) stay as they are.  The
     budget's ``metadata['codata']`` records the edition.
     """
-    from ..constants import lookup, names
+    from ..constants import DERIVED_NAMES, lookup, names
     from .distributions import Normal
 
     codata_names = set(names(edition))
@@ -338,7 +338,7 @@ def rebase(budget: Budget, edition: int) -> Budget:
         if q.reference and (q.reference in codata_names or _is_codata_name(q.reference, edition)):
             rv = lookup(q.reference, edition=edition)
             # a ratio derived from CODATA entries (the deuteron's mu_d/h) is re-derived and says so
-            derived = rv.source.startswith("derived")
+            derived = rv.name in DERIVED_NAMES
             q = q.replace(estimate=rv.value, distribution=Normal(u=rv.uncertainty),
                           source=f"{rv.edition}: {rv.name} ({rv.source})" if derived else
                           f"CODATA {rv.edition}: {rv.name}")
