@@ -104,9 +104,11 @@ def run(args: argparse.Namespace) -> int:
     day = date_of(args.date)
     entries = competence.entries(args.person, day)
     if args.json:
-        print(json.dumps({"date": day.isoformat(), "entries": [e.to_dict() for e in entries]}, indent=2,
-                         ensure_ascii=False))
+        print(json.dumps({"date": day.isoformat(), "entries": [e.to_dict() for e in entries],
+                          "not_counted": competence.not_counted}, indent=2, ensure_ascii=False))
         return 0
+    for path, why in competence.not_counted.items():
+        print(f"not counted: {path} does not verify ({why})")
     if not entries:
         print(f"no competence records{' for ' + args.person if args.person else ''} in {competence.root}")
         return 0

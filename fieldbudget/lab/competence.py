@@ -146,6 +146,8 @@ class Competence:
             raise InputError("supervised_required", self.supervised_required, "a whole number >= 0", self.where)
         keys = settings.get("trusted_keys")
         self.trusted = None if keys is None else self.lab.path / str(keys)
+        #: files in the competence folders that did not verify when read, with the reason (path -> text)
+        self.not_counted: dict[str, str] = {}
 
     def __repr__(self) -> str:
         return f"<Competence of {self.lab.path}: unauthorised operators are {self.unauthorised}>"
@@ -155,12 +157,29 @@ class Competence:
         folder = self.root / sub
         return sorted(folder.glob("*.json")) if folder.is_dir() else []
 
+    def _kept(self, sub: str) -> list[cr.SignedDocument]:
+        """The documents of ``sub`` that verify (digest, signatures and who signed in which role, against the
+        trusted keys when the settings name them).  A file placed there by hand that does not verify counts
+        for nothing; it is listed in :attr:`not_counted` with the reason."""
+        out = []
+        for path in self._files(sub):
+            doc = cr.load_document(path, check=False)
+            result = cr.verify_document(doc, trusted=self.trusted)
+            if result.passed:
+                out.append(doc)
+            else:
+                failed = result.failures[0]
+                self.not_counted[str(path)] = f"{failed.name}: {failed.detail}"
+        return out
+
     def practice_records(self, person: str | None = None) -> tuple[cr.SignedDocument, ...]:
-        docs = [cr.load_document(p) for p in self._files("practice")]
+        """The practice records kept that verify (see :meth:`_kept`)."""
+        docs = self._kept("practice")
         return tuple(d for d in docs if person is None or d.content["practice"]["trainee"] == person)
 
     def authorisations(self, person: str | None = None) -> tuple[cr.SignedDocument, ...]:
-        docs = [cr.load_document(p) for p in self._files("authorisations")]
+        """The authorisations kept that verify: an unsigned or wrongly signed one authorises nobody."""
+        docs = self._kept("authorisations")
         return tuple(d for d in docs if person is None or d.content["person"] == person)
 
     def supervised_records(self, person: str | None = None) -> tuple[tuple[str, str, str], ...]:

@@ -129,6 +129,20 @@ def test_from_practice_to_authorisation(procedure, keys, tmp_path):
     assert comp.check(TRAINEE, procedure.id, day="2027-01-15").status == "authorised"
 
 
+def test_an_authorisation_placed_by_hand_without_a_valid_signature_authorises_nobody(procedure, keys, tmp_path):
+    """ISO/IEC 17025:2017 6.2.6 asks for authorisation records: an unsigned one (digest consistent, so it loads)
+    dropped into the folder is not counted, and `list` names it."""
+    lab = _lab(tmp_path, '[competence]\ntrusted_keys = "../keys"\n')
+    forged = cr.make_authorisation(TRAINEE, {"id": procedure.id, "version": procedure.version, "name": procedure.name},
+                                   authorised_by=MANAGER, date_from="2026-01-01", until="2030-12-31")
+    target = lab / "competence" / "authorisations" / "forged.authorisation.json"
+    target.parent.mkdir(parents=True)
+    cr.save_document(forged, target)
+    comp = Competence(lab)
+    assert comp.check(TRAINEE, procedure.id, day="2027-01-15").status != "authorised"
+    assert str(target) in comp.not_counted and "missing" in comp.not_counted[str(target)]
+
+
 def test_an_untrusted_key_is_refused_when_the_lab_names_its_keys(procedure, keys, tmp_path):
     lab = _lab(tmp_path, '[competence]\ntrusted_keys = "trusted"\n')
     (lab / "trusted").mkdir()
