@@ -37,7 +37,7 @@ integrable peaks).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
@@ -80,6 +80,9 @@ class LocalField:
     body: str
     n_local: np.ndarray
     weights: np.ndarray
+    # centres already computed, by (chi, detection, natural width): a form re-builds the budget on every
+    # entry, and each centre is a histogram, two convolutions and possibly a fit
+    _centres: dict = field(default_factory=dict, repr=False, compare=False)
 
     def __repr__(self) -> str:
         return f"<LocalField {self.body}: mean N = {self.mean_n:.6f}, {len(self.n_local)} points>"
@@ -139,9 +142,15 @@ class LocalField:
         """
         if detection not in DETECTIONS:
             raise InputError("detection", detection, f"one of {list(DETECTIONS)}", _HERE)
-        mean = float(np.sum(self.shifts(chi) * self.weights))
         if detection == "centroid" or chi == 0:
             return 0.0
+        key = (float(chi), detection, float(natural_fwhm))
+        if key not in self._centres:
+            self._centres[key] = self._centre(chi, detection, natural_fwhm)
+        return self._centres[key]
+
+    def _centre(self, chi: float, detection: str, natural_fwhm: float) -> float:
+        mean = float(np.sum(self.shifts(chi) * self.weights))
         x, y = self.line(chi, natural_fwhm)
         i = int(np.argmax(y))
         if 0 < i < len(x) - 1:  # parabola through the top three points

@@ -51,7 +51,7 @@ from .nuclei import DEFAULT_NUCLEUS, Nucleus, nucleus
 __all__ = ["FILE_FORMAT", "LIMITING_SHARE", "NMRMeasurement", "NMRResult"]
 
 #: Share of u_c^2 above which the counter resolution and line-centre terms
-#: together are said to limit the measurement (the "low field" warning).
+#: together are said to limit the measurement (the "low field" warning; our choice: more than half).
 LIMITING_SHARE = 0.5
 
 _ALPHA = "proton shielding temperature coefficient in water"

@@ -48,7 +48,7 @@ def _log(dr: Reader, ctx: Context) -> tuple[np.ndarray, float | None, str]:
     if not np.all(dt > 0):
         raise BudgetFileError(m.where, f"{ptr}/time_column", f"time stamps of {spec['path']!r} must increase")
     tau0 = float(np.median(dt))
-    if np.max(np.abs(dt - tau0)) > 0.01 * tau0:
+    if np.max(np.abs(dt - tau0)) > 0.01 * tau0:  # 1 %: our choice, well inside what shifts tau noticeably
         raise BudgetFileError(m.where, f"{ptr}/time_column", f"time stamps of {spec['path']!r} must be evenly "
                               f"spaced within 1 % (median step {tau0:g} s) for an Allan deviation")
     return np.asarray(y, dtype=float), tau0, "log_csv"
@@ -92,6 +92,8 @@ def _build(ctx: Context) -> Built | None:
         tau = f", tau = {m * tau0:g} s" if tau0 is not None else ""
         how = (f"{kind} Allan deviation at {m} logging interval(s){tau} from {len(y)} readings; "
                f"{dof:.3g} equivalent dof for white frequency noise (Howe, Allan & Barnes 1981)")
+        if dof < 1.0:  # coverage factors need nu >= 1; the source says when the floor is used
+            how += f"; taken as 1 dof (the formula gives {dof:.3g})"
     q = InputQuantity("y_drift", 0.0, Normal(u=u, dof=max(dof, 1.0)), unit="", source=src or how,
                       description=_DESC, role="measured")
     return Built(inputs=(q,), terms=(Term("drift", "y_drift"),))
