@@ -6,6 +6,7 @@ sources, notes) goes through :func:`escape` before it reaches HTML.
 
 from __future__ import annotations
 
+import datetime as _dt
 import html
 import math
 from collections.abc import Iterable, Sequence
@@ -295,3 +296,8 @@ def text_table(columns: Sequence[str], rows: Iterable[Sequence[object]], width: 
     sep = "  ".join("-" * w for w in widths)
     body = [text for r in rows for text in lines_of(r)]
     return "\n".join([*lines_of(columns), sep, *body])
+
+
+def utc_now() -> str:
+    """The current UTC time to the second, as ISO 8601 with a Z (how records, signatures and logs stamp it)."""
+    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")

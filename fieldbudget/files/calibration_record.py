@@ -27,7 +27,6 @@ the signing module.
 
 from __future__ import annotations
 
-import datetime as _dt
 import hashlib
 import json
 import math
@@ -38,6 +37,7 @@ from functools import cache
 from pathlib import Path
 from typing import Any
 
+from .._display import utc_now as _utc_now
 from ..errors import DigestMismatch, FieldbudgetError, InputError, RecordError, SchemaVersionError
 from .atomic import atomic_write_text
 
@@ -59,10 +59,6 @@ KINDS = (CALIBRATION_KIND, SEVERAL_OUTPUT_KIND)
 SCHEMA_VERSION = "1.0"
 SCHEMA_MAJOR = 1
 _UNSIGNED = ("digest", "signatures")
-
-
-def _utc_now() -> str:
-    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 def _plain(x: Any, where: str = "#") -> Any:

@@ -30,7 +30,6 @@ jsonschema and hashlib.
 
 from __future__ import annotations
 
-import datetime as _dt
 import hashlib
 import json
 import math
@@ -46,6 +45,7 @@ from typing import Any
 
 from .. import __version__
 from .._display import fmt, html_table
+from .._display import utc_now as _utc_now
 from .._io import parse_json
 from ..errors import (
     BudgetFileError,
@@ -189,10 +189,6 @@ def _versions() -> tuple[tuple[str, str], ...]:
         except _metadata.PackageNotFoundError:
             out[name] = "not installed"
     return tuple(out.items())
-
-
-def _utc_now() -> str:
-    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 # ----------------------------------------------------------------------------

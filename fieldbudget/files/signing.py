@@ -25,7 +25,6 @@ from __future__ import annotations
 
 import base64
 import binascii
-import datetime as _dt
 import hashlib
 import json
 import os
@@ -33,6 +32,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from .._display import utc_now as _utc_now
 from .._io import read_json_file
 from ..errors import BudgetFileError, InputError
 
@@ -57,10 +57,6 @@ SIGNER_ROLES = ("operator", "approver")
 KEY_FORMAT = "fieldbudget-signing-key/1"
 PUB_FORMAT = "fieldbudget-public-key/1"
 _ENTRY_KEYS = ("name", "role", "fingerprint", "time", "algorithm", "public_key", "signature")
-
-
-def _utc_now() -> str:
-    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 def _b64(data: bytes) -> str:

@@ -45,6 +45,7 @@ from pathlib import Path
 from typing import Any
 
 from .._display import fmt, html_table, text_table
+from .._display import utc_now as _utc_now
 from ..errors import FieldbudgetError, InputError, RecordError
 from ..files.atomic import atomic_write_bytes
 from ..files.record import load_record
@@ -100,10 +101,6 @@ def chain_link(seq: int, prev_link: str, record_digest: str, file_sha256: str) -
     """The link of entry ``seq`` (see the module docstring)."""
     text = f"{ARCHIVE_FORMAT}\n{seq}\n{prev_link}\n{record_digest}\n{file_sha256}"
     return hashlib.sha256(text.encode("ascii")).hexdigest()
-
-
-def _utc_now() -> str:
-    return _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
 def _num(x: Any) -> float | None:

@@ -23,7 +23,6 @@ from the NMR and calibration layers through :class:`ProcedureRun`.
 
 from __future__ import annotations
 
-import datetime as _dt
 import json
 import math
 import tomllib
@@ -35,6 +34,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import _display
+from .._display import utc_now
 from ..errors import BudgetFileError, InputError
 from .procedure import RESULT_QUANTITIES, Component, Procedure, Training, _path_text, _plain
 from .run import ProcedureRun, _parse, result_quantities
@@ -759,7 +759,7 @@ def _compare(session: PracticeSession, reference: ProcedureRun) -> PracticeResul
         rows.append((s, q.description, q.unit, qm.estimate if qm else None, qm.standard_uncertainty if qm else None,
                      qr.estimate if qr else None, qr.standard_uncertainty if qr else None,
                      s in _changed_inputs({s: qm} if qm else {}, {s: qr} if qr else {})))
-    time = _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z")
+    time = utc_now()
     return PracticeResult(
         procedure_id=proc.id, procedure_version=proc.version, procedure_name=proc.name, lab=proc.lab,
         case_id=case.id, case_title=case.title, invented=case.invented, trainee=session.trainee, time=time,
