@@ -82,32 +82,26 @@ class PracticeView:
             self.session.decide_issue(_ISSUE[change["new"]])
         self.render()
 
+    @guarded
     def _submit(self, _button=None) -> None:
-        try:
-            self.session.submit()
-        except FieldbudgetError as err:
-            self.message.value = status_html(str(err))
-            return
+        self.session.submit()
         self.message.value = ""
         self.render()
 
+    @guarded
     def _write(self, what: str) -> None:
         from ..files.competence_record import make_practice_record, save_document
         from ..files.guard import check_output
 
         result = self.session.result
         path = Path(self.path.value.strip() or f"{self.session.case.id}.practice.json")
-        try:
-            if what == "record":
-                out = save_document(make_practice_record(result), path)
-            else:
-                from ..files.atomic import atomic_write_text
+        if what == "record":
+            out = save_document(make_practice_record(result), path)
+        else:
+            from ..files.atomic import atomic_write_text
 
-                target = path.with_suffix(".html") if path.suffix == ".json" else path
-                out = atomic_write_text(check_output(target, what="summary"), result.summary_html())
-        except FieldbudgetError as err:
-            self.message.value = status_html(str(err))
-            return
+            target = path.with_suffix(".html") if path.suffix == ".json" else path
+            out = atomic_write_text(check_output(target, what="summary"), result.summary_html())
         self.message.value = status_html(f"Saved {out}", "ok")
 
     def _save_record(self, _button=None) -> None:
