@@ -55,6 +55,9 @@ def ensure_venv(extras: str) -> None:
         return
     if _run([PY, "-m", "pip", "install", "--quiet", "-e", f".[{extras}]"]) != 0:
         sys.exit("pip install failed")
+    # an editable install leaves the kit's own sources uncompiled (pip compiles a wheel's); with
+    # PYTHONDONTWRITEBYTECODE set, every command would compile them again at start-up
+    _run([PY, "-m", "compileall", "-q", ROOT / "fieldbudget"])
     stamp.write_text(digest)
 
 

@@ -8,6 +8,10 @@ process, so a busy machine slows them alike (interleaved runs); the figure
 is the median over the rounds, and each ratio is a command's median over
 the baseline's.  The goal (issue 18) is <= 1.3 for every command that reads
 a record and for ``evaluate``, ``nmr`` and ``larmor`` without Monte Carlo.
+Each installation's fieldbudget package is byte-compiled first (``compileall``,
+as pip does when it installs a wheel), because numpy and scipy in the baseline
+are already compiled: otherwise, with PYTHONDONTWRITEBYTECODE set (as here),
+every run would also compile our own sources.
 ``--python`` times another installation (for example the main branch's
 virtual environment) with the same inputs, for a before/after comparison.
 PDF rendering is left out: it is start-up plus chromium.
@@ -82,6 +86,8 @@ def main() -> None:
         times = {py: {"baseline": [], **{k: [] for k in commands}} for py in pythons}
         for py in pythons:
             _time([py, "-c", "import numpy, scipy.stats"], env, folder)  # warm the file cache once
+            _time([py, "-c", "import compileall, pathlib, fieldbudget; "
+                   "compileall.compile_dir(pathlib.Path(fieldbudget.__file__).parent, quiet=1)"], env, folder)
         for _ in range(args.rounds):
             for py in pythons:
                 times[py]["baseline"].append(_time([py, "-c", "import numpy, scipy.stats"], env, folder))

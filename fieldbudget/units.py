@@ -13,16 +13,25 @@ conversion and the dimension check.  The list is closed on purpose:
   case-sensitive.
 
 pint is imported inside the functions (the registry is built once, on first
-use), so importing this module stays cheap.
+use), so importing this module stays cheap.  Building pint's registry costs
+about 0.2 s, most of a command's start-up beyond numpy and scipy, so the
+dimensions and factors of the spellings budgets commonly use are kept in
+``units-table.json``, written from pint by ``python -m fieldbudget.units
+--write-table`` (``TABLE_SPELLINGS`` lists them).  A test recomputes every
+entry with pint and fails when the file differs, so the table is a cache of
+pint's answers, not a second units library; any other spelling is parsed by
+pint as before.
 """
 
 from __future__ import annotations
 
+import json
 import math
 import re
 from decimal import Decimal
 from fractions import Fraction
 from functools import cache
+from pathlib import Path
 
 from fieldbudget.errors import InputError
 
@@ -126,13 +135,12 @@ def _registry():
 def _factor(src: str, dst: str) -> Fraction:
     """The exact conversion factor from ``src`` to ``dst``.
 
-    Every unit offered is a power of ten (or 1e-4) times an SI unit, so pint's
-    float factor is snapped to 12 significant digits and kept as a fraction;
+    Every unit offered is a power of ten (or 1e-4) times an SI unit, so the
+    ratio of the two SI factors (pint's, see :func:`parse_unit`) is snapped to 12 significant digits and kept as a fraction;
     the value is then converted with one rounding (10 uT -> exactly 1e-05 T).
     """
-    ureg = _registry()
-    factor = ureg.Quantity(1.0, _UNITS[src][1]).to(_UNITS[dst][1]).magnitude
-    return Fraction(Decimal(f"{factor:.12g}"))
+    a, b = parse_unit(src), parse_unit(dst)
+    return Fraction(Decimal(f"{a.factor / b.factor:.12g}"))
 
 
 def _check_value(value: object, field: str, where: str) -> float:
@@ -222,10 +230,21 @@ def parse_unit(text: str) -> UnitInfo | None:
     """
     if not isinstance(text, str):
         return None
-    t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u")
+    t = _table_key(text)
     if t in ("", "1", "-"):
         return UnitInfo((), 1.0, False)
-    t = _SYNONYMS.get(t, t)
+    known = _table().get(t)
+    if known is not None:
+        return known
+    return _parse_with_pint(t)
+
+
+def _table_key(text: str) -> str:
+    t = text.strip().replace("\u00b5", "u").replace("\u03bc", "u")
+    return _SYNONYMS.get(t, t)
+
+
+def _parse_with_pint(t: str) -> UnitInfo | None:
     expr = _UNITS[t][1] if t in _UNITS else t
     ureg = _registry()
     try:
@@ -267,6 +286,8 @@ def unprefixed(text: str) -> str | None:
     name = parts[0][1]
     symbol = ureg.get_symbol(name)
     return symbol if symbol.isascii() else name
+
+
 def quotient_unit(numerator: str, denominator: str) -> str | None:
     """The unit of numerator/denominator simplified by pint (``"T", "MHz/T"`` -> ``"T²/MHz"``), or None.
 
@@ -281,3 +302,66 @@ def quotient_unit(numerator: str, denominator: str) -> str | None:
         return None
     text = format(q, "~P")
     return text or "1"
+
+
+# --------------------------------------------------------------------------- the table of common spellings
+_TABLE_FILE = Path(__file__).with_name("units-table.json")
+_PREFIXES = ("G", "M", "k", "", "m", "u", "n", "p")
+_SYMBOLS = ("s", "m", "g", "A", "K", "mol", "Hz", "T", "V", "W", "ohm", "Pa", "N", "J", "C", "F", "H", "Wb", "S")
+
+#: The spellings whose pint answers are kept in units-table.json.
+TABLE_SPELLINGS: tuple[str, ...] = tuple(dict.fromkeys([
+    *_UNITS, *(k for k in _SYNONYMS if k),
+    *(p + u for u in _SYMBOLS for p in _PREFIXES), "cm", "cm^3", "cm^2", "L", "mL",
+    "min", "h", "d", "day", "degC", "1/degC", "degC^-1", "°C", "deg", "rad", "mrad", "urad", "percent",
+    *(f(u) for u in ("K", "degC", "T", "mT", "s", "Hz", "A", "V", "m", "mm", "day", "h", "d")
+      for f in (lambda u: "1/" + u, lambda u: u + "^-1")),
+    "ppm/K", "ppb/K", "%/K", "ppm/degC", "%/degC", "T/A", "mT/A", "uT/A", "T/V", "mT/V", "V/T", "mV/T", "V/mT",
+    "mV/mT", "uV/mT", "ohm/K", "mohm/K", "T/m^2", "mT/m^2", "T/mm", "mT/mm", "uT/mm", "Hz/s", "Hz/h", "T/s",
+    "T/h", "nT/h", "uT/h", "m^2", "m^3", "m s^-1", "J T^-1", "J Hz^-1", "J s", "N A^-2", "s^-1 T^-1",
+    "MHz T^-1", "kHz T^-1", "Hz T^-1", "Hz/K", "Hz/degC", "cm^3 g^-1", "cm^3/mol", "kg", "g/mol", "kg/m^3",
+]))
+
+
+@cache
+def _table() -> dict[str, UnitInfo]:
+    raw = json.loads(_TABLE_FILE.read_text(encoding="utf-8"))
+    return {k: UnitInfo(tuple((d, float(e)) for d, e in v["dimensions"]), float(v["factor"]), bool(v["offset"]))
+            for k, v in raw["units"].items()}
+
+
+def table_from_pint() -> dict:
+    """The content of units-table.json, computed with pint now (the table's test compares the two)."""
+    import pint
+
+    units = {}
+    for spelling in TABLE_SPELLINGS:
+        key = _table_key(spelling)
+        info = _parse_with_pint(key) if key not in ("", "1", "-") else None
+        if info is not None:
+            units[key] = {"dimensions": [list(d) for d in info.dimensions], "factor": info.factor,
+                          "offset": info.offset}
+    return {"about": "dimensions and SI factors of common unit spellings, as pint computes them; written by "
+                     "`python -m fieldbudget.units --write-table`, checked against pint by the tests",
+            "pint": pint.__version__, "units": units}
+
+
+def _main(argv: list[str] | None = None) -> int:
+    import argparse
+
+    ap = argparse.ArgumentParser(prog="python -m fieldbudget.units", description="write units-table.json from pint")
+    ap.add_argument("--write-table", action="store_true", help=f"write {_TABLE_FILE.name} beside this module")
+    args = ap.parse_args(argv)
+    if not args.write_table:
+        ap.print_help()
+        return 2
+    table = table_from_pint()
+    rows = ",\n".join(f"  {json.dumps(k, ensure_ascii=False)}: {json.dumps(v)}" for k, v in table.pop("units").items())
+    head = json.dumps(table, indent=1, ensure_ascii=False)[:-2]  # one unit per line keeps diffs readable
+    _TABLE_FILE.write_text(f'{head},\n "units": {{\n{rows}\n }}\n}}\n', encoding="utf-8")
+    print(f"wrote {_TABLE_FILE}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(_main())
