@@ -89,4 +89,6 @@ def render_csv(data: ReportData) -> str:
     for f in data.findings:
         w.writerow(("warning" if not f.invalid else "warning: the reading may be invalid", "", "", "", "", "", "", "",
                     "", "", "", "", "", f.message, f.key or ""))
+    for f in data.notes:  # documented choices, kept apart from the warnings
+        w.writerow(("note", "", "", "", "", "", "", "", "", "", "", "", "", f.message, f.key or ""))
     return buf.getvalue()

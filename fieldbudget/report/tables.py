@@ -4,7 +4,8 @@ A :class:`ReportData` holds plain text and numbers only: the identification
 of the measurement, the model equation, the headline result (the Monte Carlo
 one when the GUM result failed its JCGM 101 clause 8 validation, which then
 stands beside it marked not validated, with d_low, d_high, delta and the
-advice), the findings (warnings) placed next to the result, the budget rows
+advice), the findings placed next to the result (warnings apart from notes,
+which only record which of two documented choices was made), the budget rows
 (how each uncertainty was stated, u(x_i), sensitivity coefficients with their
 units; defined values with zero uncertainty apart; a correlation row and a
 second-order row so that the shares add up to 100 %), the traceability chain
@@ -177,7 +178,8 @@ class TraceLink:
 
 @dataclass(frozen=True)
 class FindingLine:
-    """One warning as a report prints it: the message and what it concerns."""
+    """One finding as a report prints it: the message, what it concerns and its severity
+    (``"note"``, ``"warning"`` or ``"invalid"``, as :class:`fieldbudget.errors.Finding`)."""
 
     message: str
     code: str = ""
@@ -238,6 +240,7 @@ class ReportData:
     unverified: tuple[tuple[str, str], ...] = ()
     lab_checked: tuple[tuple[str, str], ...] = ()
     acceptance: tuple[tuple[str, str], ...] = ()
+    notes: tuple[FindingLine, ...] = ()
     mc_result: tuple[float, float, float, float] | None = None  # value, u, interval ends (Monte Carlo)
 
     COLUMNS = ("symbol", "estimate", "unit", "stated as", "u(x_i)", "dof", "c_i", "|u_i(y)|", "share / %", "source")
@@ -565,7 +568,9 @@ def build_report_data(record, *, lab=None, coverage_wording: str = "stated") -> 
         else:
             unverified.append((link.reference, link.verification or "no remark in the kit's data file"))
 
-    findings = tuple(FindingLine(f.message, f.code, f.key, f.severity) for f in findings_of(record))
+    lines = [FindingLine(f.message, f.code, f.key, f.severity) for f in findings_of(record)]
+    findings = tuple(f for f in lines if f.severity != "note")  # notes are not warnings: listed apart
+    notes = tuple(f for f in lines if f.severity == "note")
     software = tuple((k, _text(v)) for k, v in sorted(record.software.items()))
     nu = _float(gum.get("nu_eff"))
     title = _text(budget.get("title")) or f"Uncertainty budget for {symbol}"
@@ -582,7 +587,7 @@ def build_report_data(record, *, lab=None, coverage_wording: str = "stated") -> 
         software=software, digest=record.digest, histogram=_histogram(record.monte_carlo),
         higher_order_variance=float(gum.get("higher_order_variance") or 0.0),
         correlation_variance=float(gum.get("correlation_variance") or 0.0),
-        findings=findings, identification=_identification(record, title),
+        findings=findings, notes=notes, identification=_identification(record, title),
         headline_kind=headline_kind, headline=headline or _gum_headline(symbol, unit, rv, ru, p, coverage_wording),
         headline_text=headline_text, gum_validated=validated, validation=validation, advice=advice,
         unverified=tuple(unverified), lab_checked=tuple(checked), acceptance=tuple(acceptance),

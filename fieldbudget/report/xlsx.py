@@ -183,6 +183,7 @@ def render_xlsx(data: ReportData, record) -> bytes:
     lines += [(f"Result: {k}", v) for k, v in data.headline] if data.headline_kind == "monte_carlo" else []
     lines += [(f"Warning{' (concerns ' + f.key + ')' if f.key else ''}", f.message) for f in data.findings] \
         or [("Warnings", "none")]
+    lines += [(f"Note{' (concerns ' + f.key + ')' if f.key else ''}", f.message) for f in data.notes]
     lines += [("Statement" if data.headline_kind == "gum" else "Statement (GUM, not validated)", data.statement)]
     lines += list(data.result_lines())
     lines += [(f"Validation: {k}", v) for k, v in data.validation]

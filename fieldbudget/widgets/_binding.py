@@ -94,6 +94,13 @@ def status_html(text: str | None, kind: str = "error") -> str:
     return f'<div class="fb-status-{kind}">{escape(text)}</div>' if text else ""
 
 
+def finding_html(text) -> str:
+    """One warning as HTML; a finding of severity "note" (a documented choice) is shown as a note, not a warning."""
+    if getattr(text, "severity", "warning") == "note":
+        return status_html(str(text), "note")
+    return f'<div class="fb-warning">{escape(text)}</div>'
+
+
 def guarded(fn: Callable) -> Callable:
     """Decorate a view method used as a callback: nothing it raises escapes.
 

@@ -17,7 +17,7 @@ from typing import Any
 import ipywidgets as w
 
 from .._display import escape, fmt, fmt_dof, fmt_si, fmt_u, fmt_value, pretty_symbol, pretty_unit, sensitivity_unit
-from ._binding import css, guarded, status_html
+from ._binding import css, finding_html, guarded, status_html
 
 __all__ = ["BudgetView", "budget_table_html", "format_u", "headline_html", "share_chart_html", "summary_html"]
 
@@ -194,7 +194,7 @@ class BudgetView(w.VBox):
                     self._chart_key = key
             self.summary.value = summary_html(r)
             ws = tuple(getattr(r, "warnings", ()) or ())
-            self.warnings.value = "".join(f'<div class="fb-warning">{escape(x)}</div>' for x in ws)
+            self.warnings.value = "".join(finding_html(x) for x in ws)
             self.status.value = ""
 
     def close(self) -> None:

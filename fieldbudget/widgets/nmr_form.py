@@ -12,7 +12,7 @@ import ipywidgets as w
 
 from .._display import escape, pretty_unit
 from ..drafts.nmr_draft import FieldSpec, NMRDraft
-from ._binding import BoundText, css, guarded, message_html, status_html
+from ._binding import BoundText, css, finding_html, guarded, message_html, status_html
 
 __all__ = ["NMRForm"]
 
@@ -116,10 +116,10 @@ class NMRForm(w.VBox):
             for path, box in self.boxes.items():
                 box.sync(last_good=shown)
                 texts = d.warnings_by_field.get(path, ())
-                html = "".join(f'<div class="fb-warning">{escape(t)}</div>' for t in texts)
+                html = "".join(finding_html(t) for t in texts)
                 if self.warnings[path].value != html:
                     self.warnings[path].value = html
-            self.other.value = "".join(f'<div class="fb-warning">{escape(t)}</div>' for t in d.other_warnings)
+            self.other.value = "".join(finding_html(t) for t in d.other_warnings)
             self.status.value = status_html(d.general_error)
 
     def close(self) -> None:

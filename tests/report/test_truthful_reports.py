@@ -185,6 +185,42 @@ def test_warnings_stand_next_to_the_result_not_at_the_end(tmp_path):
     assert md.index("## Result") < md.index("Warnings on this result") < md.index("## Uncertainty budget")
 
 
+def _between(text: str, start: str, end: str) -> str:
+    a = text.index(start)
+    return text[a:text.index(end, a)]
+
+
+def test_a_note_is_reported_as_a_note_not_among_the_warnings(tmp_path):
+    # regression: the note saying the line noise is already in the readings' scatter (a documented
+    # choice, JCGM 100:2008 4.2) was listed under "Warnings on this result" in every format
+    rec = record_file(README_EXAMPLE, created_utc=STAMP)
+    severities = {f["code"]: f["severity"] for f in rec.extra["findings"]}
+    assert severities == {"nmr.line_in_readings": "note", "nmr.susceptibility_broadening": "warning"}
+    note = next(f["message"] for f in rec.extra["findings"] if f["severity"] == "note")
+    warning = next(f["message"] for f in rec.extra["findings"] if f["severity"] == "warning")
+    data = build_report_data(rec)
+    assert [f.code for f in data.findings] == ["nmr.susceptibility_broadening"]
+    assert [f.code for f in data.notes] == ["nmr.line_in_readings"] and note not in data.warnings
+    out = _all_formats(rec, tmp_path)
+    html = _flat(out["html"])
+    assert _flat(_ESC["html"](note)) in _between(html, 'id="fb-notes"', "</div>")
+    assert _flat(_ESC["html"](note)) not in _between(html, 'id="fb-findings"', "</div>")
+    md = _flat(out["md"])
+    warned = _between(md, "Warnings on this result", "Notes on this result")
+    assert _flat(_ESC["md"](warning)) in warned and _flat(_ESC["md"](note)) not in warned
+    assert _flat(_ESC["md"](note)) in _between(md, "Notes on this result", "##")
+    latex = _flat(out["latex"])
+    assert _flat(_ESC["latex"](note)) in _between(latex, "Notes on this result", "end{itemize}")
+    assert _flat(_ESC["latex"](note)) not in _between(latex, "Warnings on this result", "end{itemize}")
+    rows = list(csv.reader(io.StringIO(out["csv"])))
+    assert [r[0] for r in rows if note in r] == ["note"]
+    assert [r[0] for r in rows if warning in r] == ["warning"]
+    xlsx = _xlsx_texts(rec, tmp_path)
+    assert xlsx[xlsx.index(note) - 1].startswith("Note") and xlsx[xlsx.index(warning) - 1].startswith("Warning")
+    if "pdf" in out:
+        assert "Notes on this result" in _flat(out["pdf"])
+
+
 def test_structured_finding_keeps_its_key_in_the_record_and_the_report():
     from fieldbudget.errors import Finding
 
@@ -290,7 +326,8 @@ def test_readme_example_in_every_format_lists_the_water_data_as_published_data(t
     # the example's two findings: the line noise is in the readings (a note), the cylinder's
     # susceptibility broadening makes the detection method matter
     codes = ["nmr.line_in_readings", "nmr.susceptibility_broadening"]
-    assert [f["code"] for f in rec.extra["findings"]] == codes and [f.code for f in data.findings] == codes
+    assert [f["code"] for f in rec.extra["findings"]] == codes
+    assert [f.code for f in data.notes] == codes[:1] and [f.code for f in data.findings] == codes[1:]
     for fmt, text in _all_formats(rec, tmp_path).items():
         flat = _flat(text)
         if fmt == "csv":  # the budget table itself: the source column carries the citation
