@@ -56,7 +56,7 @@ __all__ = [
 CALIBRATION_KIND = "fieldbudget calibration record"
 SEVERAL_OUTPUT_KIND = "fieldbudget several-output record"
 KINDS = (CALIBRATION_KIND, SEVERAL_OUTPUT_KIND)
-SCHEMA_VERSION = "1.0"
+SCHEMA_VERSION = "1.1"  # 1.1 adds the optional identification and acceptance
 SCHEMA_MAJOR = 1
 _UNSIGNED = ("digest", "signatures")
 
@@ -288,7 +288,8 @@ def _revision(doc: dict, previous: Any, key: str) -> None:
 def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None, seed: int | None = None,
                             operator: str = "", remarks: str = "", procedure: Any = None,
                             created_utc: str | None = None, sign: Any = None,
-                            certificate: Mapping | None = None, previous: Any = None) -> CalibrationRecord:
+                            certificate: Mapping | None = None, previous: Any = None,
+                            details: Mapping | None = None) -> CalibrationRecord:
     """Evaluate a calibration file and return its record (not yet saved).
 
     ``calibration``: a :class:`~fieldbudget.files.calibration_file.CalibrationFile`
@@ -296,7 +297,9 @@ def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None,
     at every point (else the file's ``propagation`` decides).  ``seed``: the
     Monte Carlo seed (else the file's ``monte_carlo_seed``, else one is drawn);
     it is recorded whether or not Monte Carlo runs.  ``sign``: a signing key
-    (or its path) to sign the record with.
+    (or its path) to sign the record with.  ``details``: ``identification``
+    (who calibrated, under which authorisation, what) and ``acceptance`` (the
+    procedure's verdict), as a measurement record keeps them (schema 1.1).
     """
     from .calibration_file import CalibrationFile
 
@@ -328,8 +331,31 @@ def make_calibration_record(calibration: Any, *, monte_carlo: int | None = None,
         "results": results,
         "certificate": dict(certificate or {}),
     })
+    doc.update(_details(details))
     _revision(doc, previous, "calibration_file")
     return _seal(doc, sign)
+
+
+def _details(details: Mapping | None) -> dict:
+    """The optional ``identification`` (text values) and ``acceptance`` blocks; nothing else is taken."""
+    if details is None:
+        return {}
+    if not isinstance(details, Mapping):
+        raise InputError("details", type(details).__name__, "a mapping with identification and acceptance",
+                         "make_record")
+    unknown = sorted(set(details) - {"identification", "acceptance"})
+    if unknown:
+        raise InputError("details", unknown[0], "identification or acceptance (what a calibration record keeps)",
+                         "make_record")
+    out: dict = {}
+    ident = details.get("identification")
+    if ident:
+        if not isinstance(ident, Mapping) or not all(isinstance(v, str) for v in ident.values()):
+            raise InputError("identification", ident, "a mapping of names to text", "make_record")
+        out["identification"] = {str(k): v for k, v in ident.items()}
+    if details.get("acceptance") is not None:
+        out["acceptance"] = _plain(details["acceptance"], "#/acceptance")
+    return out
 
 
 def _points_sampler(results: Mapping) -> int:
@@ -355,7 +381,7 @@ def _mc_settings(results: Mapping) -> dict:
 def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None,
                                operator: str = "", remarks: str = "", procedure: Any = None,
                                created_utc: str | None = None, sign: Any = None,
-                               previous: Any = None) -> CalibrationRecord:
+                               previous: Any = None, details: Mapping | None = None) -> CalibrationRecord:
     """Evaluate a budget with several outputs and return its record: GUM results with the outputs'
     covariance (JCGM 100:2008 H.2) and, with ``monte_carlo`` trials, a Monte Carlo run (JCGM 101)."""
     from ..engine import evaluate
@@ -383,6 +409,7 @@ def make_several_output_record(budget: Any, *, monte_carlo: Any = None, seed: in
                                                                        "sampler": _sampler_of(mc_d)},
                              "second_order_method": _second_order_method()},
                 "results": _plain({"gum": gum.to_dict(), "monte_carlo": mc_d}, "#/results")})
+    doc.update(_details(details))
     _revision(doc, previous, "budget")
     return _seal(doc, sign)
 

@@ -586,7 +586,7 @@ def make_record(budget: Any, *, monte_carlo: Any = None, seed: int | None = None
     from ..engine import evaluate
 
     hooked = _other_kind(budget, monte_carlo=monte_carlo, seed=seed, operator=operator, remarks=remarks,
-                         procedure=procedure, created_utc=created_utc, previous=previous)
+                         procedure=procedure, created_utc=created_utc, previous=previous, details=details)
     if hooked is not None:
         if sign is not None:
             hooked = sign_record(hooked, sign, passphrase=passphrase)
@@ -663,15 +663,18 @@ def _other_kind(budget: Any, **kw: Any) -> Any:
     """Calibration files and several-output budgets are recorded by :mod:`.calibration_record`."""
     from . import calibration_record as cr
 
+    details = kw.pop("details", None)
     if cr.is_calibration_input(budget):
-        return cr.make_calibration_record(budget, **kw)
+        return cr.make_calibration_record(budget, details=details, **kw)
     from ..engine import Budget
 
     b = budget
     if isinstance(budget, Mapping) and isinstance(budget.get("model"), Mapping):
         b = _as_budget(budget)
     if isinstance(b, Budget) and len(b.model.outputs) > 1:
-        return cr.make_several_output_record(b, **kw)
+        if details:  # the engine's findings of a several-output budget are in its results
+            details = {k: v for k, v in details.items() if k != "findings"}
+        return cr.make_several_output_record(b, details=details, **kw)
     return None
 
 

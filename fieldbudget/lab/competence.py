@@ -8,8 +8,9 @@ for which activity.  The laboratory folder keeps them under ``competence/``:
     practice records (``fieldbudget-practice/1``), signed by the trainee and
     countersigned by the supervisor;
 ``competence/supervised/``
-    measurement records made under supervision (their identification says
-    ``authorisation = "supervised"`` and names the supervisor);
+    measurement and calibration records made under supervision (their
+    identification says ``authorisation = "supervised"`` and names the
+    supervisor, who signed the record in the role approver);
 ``competence/authorisations/``
     authorisation records (``fieldbudget-authorisation/1``), signed by the
     person who authorises: by whom, from when, until when, and the records
@@ -183,18 +184,58 @@ class Competence:
         return tuple(d for d in docs if person is None or d.content["person"] == person)
 
     def supervised_records(self, person: str | None = None) -> tuple[tuple[str, str, str], ...]:
-        """(operator, procedure id, digest) of each supervised measurement kept."""
-        from ..files.record import load_record
-        from ..files.record_details import identification_of
+        """(operator, procedure id, digest) of each supervised measurement or calibration kept.
+
+        Only a record that still checks counts: its digest, its signatures
+        (against the trusted keys when the settings name them) and the
+        supervisor's own signature in the role approver.  Others are listed in
+        :attr:`not_counted` with the reason.
+        """
+        from ..errors import FieldbudgetError
 
         out = []
         for p in self._files("supervised"):
-            rec = load_record(p)
-            ident = identification_of(rec)
-            pid = (rec.procedure or {}).get("id", "")
+            try:
+                ident, pid, digest = self._supervised(p)
+            except FieldbudgetError as err:
+                self.not_counted[str(p)] = str(err)
+                continue
             if person is None or ident.get("operator") == person:
-                out.append((ident.get("operator", ""), str(pid), rec.digest))
+                out.append((ident.get("operator", ""), pid, digest))
         return tuple(out)
+
+    def _supervised(self, path: str | Path, where: str = "competence: supervised record") -> tuple[dict, str, str]:
+        """(identification, procedure id, digest) of a record made under supervision, after the checks that
+        need no re-evaluation: the flag and the names, the digest, every signature, and the supervisor's."""
+        from ..files import calibration_record as cal
+        from ..files.record import load_record, signature_checks
+        from ..files.record_details import identification_of
+
+        if cal.record_kind(path) in cal.KINDS:
+            rec = cal.load_calibration_record(path)  # raises when the digest does not match
+            ident = {str(k): str(v) for k, v in (rec.document.get("identification") or {}).items()}
+            if rec.document.get("operator"):
+                ident.setdefault("operator", str(rec.document["operator"]))
+            procedure = rec.document.get("procedure") or {}
+        else:
+            rec = load_record(path)
+            ident, procedure = identification_of(rec), rec.procedure or {}
+        if ident.get("authorisation") != "supervised" or not ident.get("supervisor"):
+            raise InputError("record", str(path), "a measurement or calibration record marked supervised, naming "
+                                                  "its supervisor (identification authorisation = 'supervised')",
+                             where)
+        if not procedure.get("id") or not ident.get("operator"):
+            raise InputError("record", str(path), "a record naming its procedure id and its operator", where)
+        checks, results = signature_checks(rec.signatures, rec.computed_digest(), self.trusted)
+        bad = next((c for c in checks if c.status == "fail"), None)
+        if bad is not None:
+            raise InputError("record", str(path), f"a record whose signatures all check ({bad.name}: {bad.detail})",
+                             where)
+        supervisor = ident["supervisor"]
+        if not any(r.valid and r.name == supervisor and r.role == "approver" for r in results):
+            raise InputError("record", str(path), f"a record signed by its supervisor {supervisor!r} in the role "
+                                                  f"approver (`fieldbudget sign RECORD --key SUPERVISOR.key`)", where)
+        return ident, str(procedure["id"]), rec.digest
 
     def _verified(self, doc_or_path: Any, where: str) -> None:
         result = cr.verify_document(doc_or_path, trusted=self.trusted)
@@ -254,23 +295,16 @@ class Competence:
         return self._copy(Path(path).read_bytes(), "practice", name)
 
     def add_supervised(self, path: str | Path) -> Path:
-        """Keep a measurement record made under supervision (its identification says so)."""
-        from ..files.record import load_record, verify_record
-        from ..files.record_details import identification_of
+        """Keep a measurement or calibration record made under supervision: its identification says so, the
+        supervisor signed it (role approver), and it verifies in full (results recomputed)."""
+        from ..files.record import verify_record
 
-        rec = load_record(path)
-        ident = identification_of(rec)
-        if ident.get("authorisation") != "supervised" or not ident.get("supervisor"):
-            raise InputError("record", str(path), "a measurement record marked supervised, naming its supervisor "
-                                                  "(identification authorisation = 'supervised')", "competence add")
-        if not (rec.procedure or {}).get("id") or not ident.get("operator"):
-            raise InputError("record", str(path), "a record naming its procedure id and its operator",
-                             "competence add")
+        ident, pid, digest = self._supervised(path, "competence add")
         check = verify_record(path, trusted=self.trusted)
         if not check.passed:
             raise InputError("record", str(path), f"a record that verifies ({check.failures[0].name})",
                              "competence add")
-        name = f"{_slug(ident['operator'])}--{rec.procedure['id']}--{rec.digest[:12]}.record.json"
+        name = f"{_slug(ident['operator'])}--{pid}--{digest[:12]}.record.json"
         return self._copy(Path(path).read_bytes(), "supervised", name)
 
     def add(self, path: str | Path) -> Path:

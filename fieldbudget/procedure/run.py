@@ -559,7 +559,7 @@ class ProcedureRun:
             ident["authorisation"] = a.flag
             if a.supervisor:
                 ident["supervisor"] = a.supervisor
-            # said in the remark as well, which every kind of record keeps (a calibration record has no identification)
+            # said in the remark as well, in words, for the reader of the certificate's record
             remark += (f" Operator {operator} not authorised for this procedure: run supervised by {a.supervisor}."
                        if a.flag == "supervised" else f" Operator {operator} authorised for this procedure.")
         details: dict = {"identification": ident}
@@ -578,7 +578,7 @@ class ProcedureRun:
                 where=self._values_where, base_dir=base)
             return make_record(cal, monte_carlo=monte_carlo if isinstance(monte_carlo, int) else None, seed=seed,
                                procedure=self.procedure, operator=operator, remarks=f"{text}{remark}", sign=sign,
-                               passphrase=passphrase)
+                               passphrase=passphrase, details=details)
         kw.update(sign=sign, passphrase=passphrase)
         if self._current and self.procedure.kind == "nmr-field":
             from ..files.measurement_record import make_measurement_record

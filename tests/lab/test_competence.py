@@ -173,12 +173,41 @@ def test_an_unauthorised_operator_is_flagged_and_the_record_keeps_the_flag(proce
     assert ident["authorisation"] == "supervised" and ident["supervisor"] == SUPERVISOR
     assert ident["operator"] == "N. Ewcomer (invented)"
     assert "run supervised by S. Upervisor" in rec.remarks
-    # the supervised measurement goes into the competence records too
-    from fieldbudget.files.record import save_record
+    # the supervised measurement goes into the competence records too, once the supervisor has signed it
+    from fieldbudget.files.record import save_record, sign_record
 
-    comp.add(save_record(rec, tmp_path / "m.record.json"))
+    unsigned = save_record(rec, tmp_path / "m.record.json")
+    with pytest.raises(InputError, match="signed by its supervisor 'S. Upervisor"):
+        comp.add(unsigned)
+    comp.add(save_record(sign_record(rec, keys["supervisor"]), tmp_path / "m-signed.record.json"))
     (entry,) = comp.entries("N. Ewcomer (invented)")
     assert entry.supervised == 1 and not entry.authorised
+
+
+def test_a_supervised_record_placed_by_hand_counts_only_with_the_supervisors_signature(procedure, keys, tmp_path):
+    # ISO/IEC 17025:2017 6.2.5 (records of supervision): the supervisor vouches for the run by signing it
+    from fieldbudget.files.record import save_record, sign_record
+
+    comp = _authorised_lab(procedure, keys, tmp_path, "")
+    run = start_run(procedure, operator="N. Ewcomer (invented)", lab=comp.lab, supervisor=SUPERVISOR)
+    run.set("frequency_readings", READINGS)
+    rec = run.make_record()
+    folder = comp.root / "supervised"
+    folder.mkdir(parents=True, exist_ok=True)
+    save_record(rec, folder / "unsigned.record.json")
+    save_record(sign_record(rec, keys["trainee-approver"]), folder / "wrong-signer.record.json")
+    assert Competence(comp.lab).supervised_records() == ()
+    fresh = Competence(comp.lab)
+    fresh.entries()
+    assert set(map(Path, fresh.not_counted)) == {folder / "unsigned.record.json", folder / "wrong-signer.record.json"}
+    assert all("signed by its supervisor" in why for why in fresh.not_counted.values())
+    save_record(sign_record(rec, keys["supervisor"]), folder / "signed.record.json")
+    assert [r[0] for r in Competence(comp.lab).supervised_records()] == ["N. Ewcomer (invented)"]
+    # a signature that no longer matches the content (the record edited after signing) counts for nothing
+    doc = json.loads((folder / "signed.record.json").read_text())
+    doc["remarks"] += " edited"
+    (folder / "signed.record.json").write_text(json.dumps(doc))
+    assert Competence(comp.lab).supervised_records() == ()
 
 
 def test_supervision_needs_an_authorised_supervisor(procedure, keys, tmp_path):
@@ -212,3 +241,34 @@ def test_the_operator_cannot_be_swapped_after_the_check(procedure, keys, tmp_pat
 def test_bad_settings_name_the_setting(tmp_path):
     with pytest.raises(InputError, match=r"\[competence\]: unauthorised must be one of 'supervised', 'refuse'"):
         Competence(_lab(tmp_path, '[competence]\nunauthorised = "warn"\n'))
+
+
+TESLA_TEMPLATE = NMR_TEMPLATE.with_name("teslameter-calibration.toml")
+
+
+def test_a_supervised_teslameter_calibration_keeps_the_flag_in_its_record_and_counts(keys, tmp_path):
+    # the calibration record keeps who calibrated under which authorisation as structured identification,
+    # not only in its remark (ISO/IEC 17025:2017 6.2.5 d and e, 6.2.6; clause letters from memory)
+    from fieldbudget.files.record import save_record, sign_record
+
+    tesla = load_procedure(TESLA_TEMPLATE)
+    comp = Competence(_lab(tmp_path))
+    s = PracticeSession(tesla, "routine-sequence", trainee=SUPERVISOR)
+    for d in s.case.decisions:
+        s.decide(d.component, d.answer)
+    s.decide_issue(s.case.answer.issue)
+    sup_key = new_key(SUPERVISOR, "operator", Path(keys["dir"]) / "supervisor-op.key")
+    doc = cr.sign_document(cr.sign_document(cr.make_practice_record(s.submit()), sup_key), keys["manager"])
+    comp.add(cr.save_document(doc, tmp_path / "tesla.practice.json"))
+    comp.authorise(SUPERVISOR, tesla, key=keys["manager"], date_from="2026-01-01", until="2030-12-31")
+    run = start_run(tesla, operator="N. Ewcomer (invented)", lab=comp.lab, supervisor=SUPERVISOR)
+    rec = run.make_record()
+    d = rec.to_dict()
+    assert d["kind"] == "fieldbudget calibration record" and d["schema_version"] == "1.1"
+    assert d["identification"]["authorisation"] == "supervised" and d["identification"]["supervisor"] == SUPERVISOR
+    assert d["identification"]["operator"] == "N. Ewcomer (invented)"
+    assert d["acceptance"]["accepted"] is True and d["acceptance"]["verdicts"]
+    assert verify_record(save_record(rec, tmp_path / "cal.record.json")).passed
+    comp.add(save_record(sign_record(rec, keys["supervisor"]), tmp_path / "cal-signed.record.json"))
+    (entry,) = [e for e in Competence(comp.lab).entries("N. Ewcomer (invented)")]
+    assert entry.procedure == tesla.id and entry.supervised == 1
