@@ -178,10 +178,31 @@ class Competence:
         docs = self._kept("practice")
         return tuple(d for d in docs if person is None or d.content["practice"]["trainee"] == person)
 
-    def authorisations(self, person: str | None = None) -> tuple[cr.SignedDocument, ...]:
-        """The authorisations kept that verify: an unsigned or wrongly signed one authorises nobody."""
-        docs = self._kept("authorisations")
-        return tuple(d for d in docs if person is None or d.content["person"] == person)
+    def authorisations(self, person: str | None = None, *, practice: Any = None,
+                       supervised: Any = None) -> tuple[cr.SignedDocument, ...]:
+        """The authorisations kept that verify: an unsigned or wrongly signed one authorises nobody, and nor
+        does one whose practice records or supervised measurements (``backed_by``, by digest) are no longer
+        among those kept that check.  ``practice`` and ``supervised`` are those records when the caller
+        has read them already."""
+        if practice is None:
+            practice = self.practice_records()
+        if supervised is None:
+            supervised = self.supervised_records()
+        kept = {"practice": {d.digest for d in practice}, "supervised": {d for _, _, d in supervised}}
+        out = []
+        for doc in self._kept("authorisations"):
+            if person is not None and doc.content["person"] != person:
+                continue
+            backing = doc.content.get("backed_by") or {}
+            gone = [(what, digest) for what in ("practice", "supervised") for digest in backing.get(what, ())
+                    if digest not in kept[what]]
+            if gone:
+                what, digest = gone[0]
+                self.not_counted[doc.path] = (f"backed_by: the {what} record {digest[:12]} it cites is not among "
+                                               f"the kept records that check (competence/{what}/)")
+                continue
+            out.append(doc)
+        return tuple(out)
 
     def supervised_records(self, person: str | None = None) -> tuple[tuple[str, str, str], ...]:
         """(operator, procedure id, digest) of each supervised measurement or calibration kept.
@@ -247,8 +268,8 @@ class Competence:
     def entries(self, person: str | None = None, day: _dt.date | str | None = None) -> tuple[CompetenceEntry, ...]:
         """One entry per person and procedure found in the records, on ``day`` (today by default)."""
         on = _day(day, "day", "competence") if day is not None else _dt.date.today()
-        practice, auths = self.practice_records(person), self.authorisations(person)
-        supervised = self.supervised_records(person)
+        practice, supervised = self.practice_records(person), self.supervised_records(person)
+        auths = self.authorisations(person, practice=practice, supervised=supervised)
         keys: set[tuple[str, str]] = set()
         keys |= {(d.content["practice"]["trainee"], d.content["practice"]["procedure"]["id"]) for d in practice}
         keys |= {(d.content["person"], d.content["procedure"]["id"]) for d in auths}

@@ -143,6 +143,20 @@ def test_an_authorisation_placed_by_hand_without_a_valid_signature_authorises_no
     assert str(target) in comp.not_counted and "missing" in comp.not_counted[str(target)]
 
 
+def test_an_authorisation_whose_practice_record_is_gone_authorises_nobody(procedure, keys, tmp_path):
+    # ISO/IEC 17025:2017 6.2.5 (records of training retained): an authorisation is only as good as the
+    # records it cites; with its practice record removed from the competence folder it no longer counts
+    lab = _lab(tmp_path, '[competence]\ntrusted_keys = "../keys"\n')
+    comp = Competence(lab)
+    kept = comp.add(_signed(procedure, keys, tmp_path))
+    path = comp.authorise(TRAINEE, procedure, key=keys["manager"], date_from="2026-12-01", until="2027-11-30")
+    assert Competence(lab).check(TRAINEE, procedure.id, day="2027-01-15").status == "authorised"
+    kept.unlink()
+    again = Competence(lab)
+    assert again.check(TRAINEE, procedure.id, day="2027-01-15").status != "authorised"
+    assert "the practice record" in again.not_counted[str(path)] and "backed_by" in again.not_counted[str(path)]
+
+
 def test_an_untrusted_key_is_refused_when_the_lab_names_its_keys(procedure, keys, tmp_path):
     lab = _lab(tmp_path, '[competence]\ntrusted_keys = "trusted"\n')
     (lab / "trusted").mkdir()
