@@ -125,8 +125,8 @@ class AuthorisationCheck:
 
     def _repr_html_(self) -> str:
         cls = {"authorised": "fb-verdict-pass", "supervised": "fb-verdict-open"}.get(self.status, "fb-verdict-fail")
-        mark = {"authorised": "&#10003;", "supervised": "&#9888;"}.get(self.status, "&#10007;")
-        return f'<div class="fb-authorisation {cls}">{mark} {escape(self.message)}</div>'
+        # the mark comes from the stylesheet (fieldbudget.css), the words from the message
+        return f'<div class="fb-authorisation {cls}">{escape(self.message)}</div>'
 
 
 class Competence:

@@ -83,17 +83,17 @@ def _schema() -> dict:
     return json.loads(text)
 
 
-def _words(v: Any, unit: str = "") -> str:
-    """A value as the trainee typed it, for an explanation."""
+def _words(v: Any, unit: str = "", digits: int = 4) -> str:
+    """A value as the trainee typed it, for an explanation or a table cell, with its unit."""
     if v is None:
         return "nothing"
     if isinstance(v, bool):
         return "yes" if v else "no"
     if isinstance(v, (list, tuple)):
-        return ", ".join(_words(x) for x in v)
+        return ", ".join(_words(x, digits=digits) for x in v)
     if isinstance(v, (int, float)) and unit in _display.PREFIXABLE_UNITS:
-        return _display.fmt_si(float(v), unit, digits=4, group=False)
-    text = _display.fmt(v, 4) if isinstance(v, float) else str(v)
+        return _display.fmt_si(float(v), unit, digits=digits, group=False)
+    text = _display.fmt(v, digits) if isinstance(v, float) else str(v)
     return f"{text} {_display.pretty_unit(unit)}".strip()
 
 
@@ -432,16 +432,17 @@ class PracticeResult:
     # ------------------------------------------------------------ display
     def side_by_side_html(self) -> str:
         """The two budgets input by input; a differing row has class ``fb-practice-differs`` and a mark."""
-        e, f = _display.escape, _display.fmt
+        e = _display.escape
         head = ("<tr><th>input</th><th>what it is</th><th>your estimate</th><th>your u</th>"
                 "<th>reference estimate</th><th>reference u</th><th></th></tr>")
         body = []
         for s, d, u, te, tu, re, ru, x in self.rows:
-            unit = e(_display.pretty_unit(u))
             cls = ' class="fb-practice-differs"' if x else ""
             mark = "&#9888; differs" if x else "same"
-            body.append(f"<tr{cls}><td>{e(s)}</td><td>{e(d)}</td><td>{e(f(te))} {unit}</td><td>{e(f(tu))}</td>"
-                        f"<td>{e(f(re))} {unit}</td><td>{e(f(ru))}</td><td>{mark}</td></tr>")
+            # in the input's unit, SI-prefixed alike; estimates with enough digits to show a reading's difference
+            cells = "".join(f'<td class="fb-num">{e(_words(v, u, n))}</td>'
+                            for v, n in ((te, 10), (tu, 4), (re, 10), (ru, 4)))
+            body.append(f"<tr{cls}><td>{e(s)}</td><td>{e(d)}</td>{cells}<td>{mark}</td></tr>")
         return (f'<table class="fb-table fb-practice-side-by-side"><thead>{head}</thead>'
                 f"<tbody>{''.join(body)}</tbody></table>")
 
@@ -453,11 +454,11 @@ class PracticeResult:
 
     def _differences_html(self) -> str:
         if self.passed:
-            return ('<p class="fb-practice-verdict fb-verdict-pass">&#10003; Passed: every decision agrees with '
+            return ('<p class="fb-practice-verdict fb-verdict-pass">Passed: every decision agrees with '
                     "the reference answer and every result is within its tolerance.</p>")
         items = "".join(f'<li class="fb-practice-difference"><strong>{_display.escape(d.label)}</strong>: '
                         f"{_display.escape(d.explanation)}</li>" for d in self.differences)
-        return (f'<p class="fb-practice-verdict fb-verdict-fail">&#10007; Not passed: {len(self.differences)} '
+        return (f'<p class="fb-practice-verdict fb-verdict-fail">Not passed: {len(self.differences)} '
                 f'difference(s) from the reference answer.</p><ol class="fb-practice-differences">{items}</ol>')
 
     def _repr_html_(self) -> str:

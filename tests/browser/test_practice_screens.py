@@ -1,4 +1,5 @@
-"""The practice notebooks in JupyterLab, in a real chromium: hidden answer, decisions, submit, comparison.
+"""The practice notebooks in JupyterLab and in Voila, in a real chromium: hidden answer, decisions, submit,
+comparison.
 
 For each template's practice notebook (as shipped: its first, straightforward
 case) the test runs the notebook, checks that nothing of the reference answer
@@ -11,7 +12,7 @@ marked for the planted mistake.  Screenshots go to tests/browser/artifacts/.
 from __future__ import annotations
 
 import pytest
-from test_template_screens import _box, _expect_seen, _go_to_step, _open_lab, _shot
+from test_template_screens import _box, _expect_seen, _go_to_step, _open_lab, _open_voila, _shot
 
 pytestmark = pytest.mark.browser
 
@@ -23,7 +24,8 @@ PRACTICE = {
 
 
 @pytest.mark.parametrize("name", sorted(PRACTICE))
-def test_practice_screen(name, request, served, browser_context, artifact_dir):
+@pytest.mark.parametrize("front", ["lab", "voila"])
+def test_practice_screen(front, name, request, served, browser_context, artifact_dir):
     from playwright.sync_api import expect
 
     from fieldbudget.procedure import load_procedure
@@ -33,9 +35,12 @@ def test_practice_screen(name, request, served, browser_context, artifact_dir):
     proc = load_procedure(served / "templates" / f"{name}.toml")
     case = practice_case(proc, case_id)
     page = browser_context.new_page()
-    stem = artifact_dir / f"practice-{name}"
+    stem = artifact_dir / f"practice-{front}-{name}"
     try:
-        _open_lab(page, request.getfixturevalue("jupyter_lab"), f"{name}-practice")
+        if front == "lab":
+            _open_lab(page, request.getfixturevalue("jupyter_lab"), f"{name}-practice")
+        else:
+            _open_voila(page, request.getfixturevalue("voila"), served, f"{name}-practice")
         submit = page.locator(".fb-practice-submit").first
         _expect_seen(submit, timeout=120_000)
         view = page.locator(".fb-practice").first
