@@ -12,7 +12,7 @@ import math
 from collections.abc import Iterable, Sequence
 
 __all__ = ["escape", "fmt", "fmt_dof", "fmt_si", "fmt_u", "fmt_ppm", "fmt_value", "group_digits", "html_table",
-           "terminal_width", "text_table", "html_block", "pretty_unit", "pretty_symbol", "sensitivity_unit",
+           "terminal_width", "text_table", "html_block", "pretty_unit", "pretty_symbol",
            "DOF_DISPLAY_LIMIT"]
 
 #: Effective degrees of freedom above this are shown as "> 1000" everywhere
@@ -189,18 +189,6 @@ def pretty_symbol(symbol: str) -> str:
     head = _GREEK.get(parts[0], parts[0])
     sub = "_".join(parts[1:])
     return escape(head) + prime + (f"<sub>{escape(sub)}</sub>" if sub else "")
-
-
-def sensitivity_unit(output_unit: str | None, input_unit: str | None) -> str:
-    """The unit of a sensitivity coefficient c = dy/dx: output unit per input unit (JCGM 100:2008, 5.1.3)."""
-    out, inp = pretty_unit(output_unit), pretty_unit(input_unit)
-    if out == inp:
-        return ""
-    if not inp:
-        return out
-    if "/" in inp or "\u00b7" in inp or " " in inp:
-        inp = f"({inp})"
-    return f"{out or '1'}/{inp}"
 
 
 def html_table(

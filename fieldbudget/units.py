@@ -288,6 +288,7 @@ def unprefixed(text: str) -> str | None:
     return symbol if symbol.isascii() else name
 
 
+@cache
 def quotient_unit(numerator: str, denominator: str) -> str | None:
     """The unit of numerator/denominator simplified by pint (``"T", "MHz/T"`` -> ``"T²/MHz"``), or None.
 

@@ -38,13 +38,16 @@ def test_fmt_si_round_trips_within_u(value, rel_u):
 
 
 def test_units_and_symbols_in_unicode():
-    from fieldbudget._display import pretty_symbol, pretty_unit, sensitivity_unit
+    from fieldbudget._display import pretty_symbol, pretty_unit
+    from fieldbudget.report.tables import sensitivity_unit
 
     assert pretty_unit("degC") == "\u00b0C" and pretty_unit("uT") == "\u00b5T" and pretty_unit("1") == ""
     assert pretty_symbol("gamma_p_sh") == "\u03b3\u2032<sub>p</sub>"   # shielded proton: gamma'_p (CODATA)
     # c = dy/dx carries unit(y)/unit(x) (JCGM 100:2008, 5.1.3)
-    assert sensitivity_unit("T", "Hz") == "T/Hz" and sensitivity_unit("T", "MHz/T") == "T/(MHz/T)"
-    assert sensitivity_unit("T", "T") == "" and sensitivity_unit("T", "") == "T"
+    # simplified by pint (the units library): T/(MHz/T) = T²/MHz, T/(1/K) = K·T
+    assert sensitivity_unit("T", "Hz") == "T/Hz" and sensitivity_unit("T", "MHz/T") == "T\u00b2/MHz"
+    assert sensitivity_unit("T", "1/K") == "K\u00b7T"
+    assert sensitivity_unit("T", "T") == "1" and sensitivity_unit("T", "") == "T"
 
 
 def test_values_without_a_prefix_use_a_power_of_ten():

@@ -16,7 +16,8 @@ from typing import Any
 
 import ipywidgets as w
 
-from .._display import escape, fmt, fmt_dof, fmt_si, fmt_u, fmt_value, pretty_symbol, pretty_unit, sensitivity_unit
+from .._display import escape, fmt, fmt_dof, fmt_si, fmt_u, fmt_value, pretty_symbol, pretty_unit
+from ..report.tables import sensitivity_unit
 from ._binding import css, finding_html, guarded, status_html
 
 __all__ = ["BudgetView", "budget_table_html", "format_u", "headline_html", "share_chart_html", "summary_html"]
@@ -51,7 +52,8 @@ def _sensitivity(c: float | None, out_unit: str, in_unit: str) -> str:
         return ""
     if c == 0:
         return "0"
-    return f"{fmt(c, 4)} {sensitivity_unit(out_unit, in_unit)}".strip()
+    unit = sensitivity_unit(out_unit, in_unit)  # simplified as the reports write it (T/(1/K) -> K·T)
+    return f"{fmt(c, 4)} {'' if unit == '1' else pretty_unit(unit)}".strip()
 
 
 def budget_table_html(result: Any) -> str:
