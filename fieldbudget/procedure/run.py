@@ -54,7 +54,9 @@ def _parse(comp: Component, value: Any, where: str) -> Any:
 
     lo = "" if comp.minimum is None else _display.fmt(comp.minimum)
     hi = "" if comp.maximum is None else _display.fmt(comp.maximum)
-    span = f" in [{lo or '-inf'}, {hi or 'inf'}]{unit}" if (lo or hi) else f"{unit}" if unit else ""
+    # ">= 0 Hz", "<= 45 degC", "from 5 to 45 degC": no "inf" bound beside the word finite
+    span = (f" from {lo} to {hi}{unit}" if lo and hi else f" >= {lo}{unit}" if lo else f" <= {hi}{unit}" if hi
+            else f" in{unit}" if unit else "")
     if kind == "number":
         allowed = f"a finite number{span}"
         return bounded(number(value, allowed), allowed, value)
