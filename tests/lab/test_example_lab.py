@@ -97,3 +97,30 @@ def test_readme_lab_commands_run(capsys, monkeypatch):
         assert code in (0, 1), line   # register check may report an overdue instrument (exit 1)
         ran += 1
     assert ran == 4
+
+
+def test_the_example_staff_records_verify_and_say_who_is_authorised(capsys):
+    # the demo's training records (examples/lab/build_demo_competence.py): every one verifies against the
+    # lab's trusted keys, and the list follows ISO/IEC 17025:2017 6.2.5/6.2.6 as the kit applies them
+    assert main(["competence", "list", "--lab", str(EXAMPLE_LAB), "--date", "2026-12-01", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["not_counted"] == {}
+    by = {(e["person"], e["procedure"]): e for e in doc["entries"]}
+    assert by[("R. Okafor (invented)", "nmr-reference-field")]["authorised"] is True
+    assert by[("M. Lindqvist (invented)", "teslameter-calibration")]["authorised"] is True
+    trainee = by[("J. Abara (invented)", "nmr-reference-field")]
+    assert trainee["authorised"] is False and trainee["backed_by"]["cases_passed"] == ["routine-1t"]
+    for sub in ("practice", "authorisations"):
+        for path in sorted((EXAMPLE_LAB / "competence" / sub).glob("*.json")):
+            assert main(["verify", str(path), "--trusted", str(EXAMPLE_LAB / "keys")]) == 0, path
+            capsys.readouterr()
+
+
+def test_a_trainee_of_the_example_lab_works_under_supervision():
+    from fieldbudget.procedure import load_procedure
+    from fieldbudget.procedure.authorised import start_run
+
+    proc = load_procedure(ROOT / "templates" / "nmr-reference-field.toml")
+    run = start_run(proc, operator="J. Abara (invented)", lab=EXAMPLE_LAB, supervisor="R. Okafor (invented)",
+                    day="2026-12-01")
+    assert run.authorisation.status == "supervised" and run.authorisation.supervisor == "R. Okafor (invented)"
