@@ -42,6 +42,7 @@ __all__ = [
     "MAX_BYTES",
     "decode_utf8",
     "parse_json",
+    "read_bytes",
     "read_json_file",
     "read_object_file",
     "read_named_text",
@@ -159,7 +160,9 @@ def parse_json(data: bytes | str, where: str, *, what: str = "file") -> object:
     return doc
 
 
-def _read_bytes(path: str | os.PathLike, where: str, pointer: str = "") -> bytes:
+def read_bytes(path: str | os.PathLike, where: str, pointer: str = "") -> bytes:
+    """The bytes of a file (at most MAX_BYTES); a missing, unreadable or too large file is a BudgetFileError
+    naming ``where`` and ``pointer``."""
     p = Path(path)
     if str(path) == "":
         raise BudgetFileError(where or "''", pointer, "an empty path names no file")
@@ -181,7 +184,7 @@ def _read_bytes(path: str | os.PathLike, where: str, pointer: str = "") -> bytes
 def read_json_file(path: str | os.PathLike, *, what: str = "file") -> object:
     """Read and parse a JSON file strictly; the error names ``path`` as the user gave it."""
     where = str(path)
-    return parse_json(_read_bytes(path, where), where, what=what)
+    return parse_json(read_bytes(path, where), where, what=what)
 
 
 def read_object_file(path: str | os.PathLike, *, what: str = "file", top: str = "an object") -> dict:
@@ -190,7 +193,7 @@ def read_object_file(path: str | os.PathLike, *, what: str = "file", top: str = 
     import tomllib
 
     where = str(path)
-    data = _read_bytes(path, where)
+    data = read_bytes(path, where)
     if Path(path).suffix.lower() == ".toml":
         try:
             doc = tomllib.loads(decode_utf8(data, where))
@@ -239,7 +242,7 @@ def read_named_text(name: str, base_dir: str | os.PathLike, where: str, pointer:
         raise BudgetFileError(where, pointer, f"{name!r} lies outside the folder of {where}; files a measurement "
                               "file names must be in its folder or below it (or pass --allow-outside-files)")
     try:
-        data = _read_bytes(target, where, pointer)
+        data = read_bytes(target, where, pointer)
     except BudgetFileError as err:
         raise BudgetFileError(where, pointer, f"{name!r}: {err.reason}") from None
     try:

@@ -33,7 +33,7 @@ from pathlib import Path
 from typing import Any
 
 from .._display import html_table
-from .._io import read_json_file
+from .._io import read_bytes, parse_json
 from ..errors import BudgetFileError, InputError, OutputError
 from .record import Check, VerifyResult, _freeze, _jsonable, _thaw, compute_digest
 
@@ -226,8 +226,11 @@ def document_format(path: str | os.PathLike) -> str | None:
 
 def load_document(path: str | os.PathLike, *, check: bool = True) -> SignedDocument:
     """Read a practice or authorisation record; with ``check``, its digest must match its content."""
-    where = str(path)
-    raw = read_json_file(path, what="training record")
+    return _parse(read_bytes(path, str(path)), str(path), check=check)
+
+
+def _parse(data: bytes, where: str, *, check: bool = True) -> SignedDocument:
+    raw = parse_json(data, where, what="training record")
     if not isinstance(raw, dict) or raw.get("format") not in FORMATS:
         got = raw.get("format") if isinstance(raw, dict) else type(raw).__name__
         raise BudgetFileError(where, "#/format", f"must be one of {', '.join(map(repr, FORMATS))} (got {got!r})")
@@ -255,8 +258,8 @@ def verify_document(doc: SignedDocument | str | os.PathLike, *, trusted: Any = N
     where = ""
     if not isinstance(doc, SignedDocument):
         where = str(doc)
-        raw = Path(doc).read_bytes() if Path(doc).is_file() else b""
-        doc = load_document(doc, check=False)
+        raw = read_bytes(doc, where)  # read once: parsed, and compared with what the kit writes
+        doc = _parse(raw, where, check=False)
         checks.append(Check("schema", "pass", f"follows {_SCHEMAS[doc.format]}"))
         same = raw.replace(b"\r\n", b"\n") == _text(doc).encode("utf-8")
         checks.append(Check("file form", "pass" if same else "fail",
