@@ -193,7 +193,8 @@ def _check_case_value(where: str, parts: list, comp: Component, value: Any) -> A
 
 
 def practice_cases(procedure: Procedure) -> tuple[PracticeCase, ...]:
-    """The ``[[practice]]`` cases of ``procedure``'s file (read again from ``procedure.path``).
+    """The ``[[practice]]`` cases of ``procedure``'s file (as :func:`load_procedure` read it; a procedure
+    built without them is read again from ``procedure.path``).
 
     Raises
     ------
@@ -203,6 +204,8 @@ def practice_cases(procedure: Procedure) -> tuple[PracticeCase, ...]:
         file and the key path (``practice[1].decisions[0].component``).
     """
     where = procedure.path or "procedure"
+    if procedure.practice_json is not None:
+        return practice_cases_from_list(procedure, json.loads(procedure.practice_json), where)
     try:
         data = tomllib.loads(Path(procedure.path).read_text("utf-8")) if procedure.path else {}
     except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as err:

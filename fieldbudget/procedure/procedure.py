@@ -281,6 +281,8 @@ class Procedure:
     acceptance: tuple[AcceptanceLimit, ...] = ()
     safety: tuple[SafetyCaution, ...] = ()
     path: str = field(default="", compare=False)
+    # the file's [[practice]] cases as JSON text, checked by procedure.practice when used (None: not given)
+    practice_json: str | None = field(default=None, compare=False, repr=False)
 
     def component(self, component_id: str) -> Component:
         """The component named ``component_id`` (``KeyError`` naming the known ids if absent)."""
@@ -551,6 +553,7 @@ def procedure_from_dict(data: dict, where: str = "procedure") -> Procedure:
         summary=p.get("summary", ""), approved_by=p.get("approved_by", ""), issued=p.get("issued", ""),
         codata=codata, components=tuple(components), steps=tuple(steps), acceptance=tuple(limits),
         safety=tuple(SafetyCaution(**s) for s in data.get("safety", [])), path=where,
+        practice_json=json.dumps(data.get("practice", []), default=str),  # TOML dates as text
     )
 
 
