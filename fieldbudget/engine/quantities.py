@@ -40,7 +40,7 @@ ROLES: dict[str, tuple[str, ...]] = {
     "calibrated": ("certificate", "issuer", "date"),         # from a calibration certificate
     "lab_characterisation": ("report",),                     # the lab's own characterisation
     "convention": ("definition",),                           # a defined value (e.g. 25 degC reference)
-    "measured": (),                                          # Type A, from the readings of this measurement
+    "measured": (),                                          # measured in this measurement (readings: Type A)
     "specification": ("document",),                          # a manufacturer's or standard's specification
 }
 

@@ -39,7 +39,7 @@ ROLE_TITLES = {
     "calibrated": "calibrated (certificate)",
     "lab_characterisation": "laboratory characterisation",
     "convention": "defined value (convention)",
-    "measured": "measured (Type A)",
+    "measured": "measured",
     "specification": "specification",
     "": "role not stated",
 }
@@ -76,32 +76,47 @@ class TraceLink:
 
     @property
     def text(self) -> str:
-        """How this input is traceable, in words built from the role and its facts."""
+        """How this input is traceable, in words built from the role and its facts; where the fact that
+        identifies the document behind the role is missing, the source text given with the input follows,
+        marked as such."""
+        words, identified = self._role_words()
+        if not identified and self.source and self.role:
+            return f"{words}; source given: {self.source}"
+        return words
+
+    def _role_words(self) -> tuple[str, bool]:
+        """(words, whether the facts identify what the value is traceable to)."""
         f = self.fact
         if self.role == "reference_constant":
             name = f.get("codata_name", self.reference)
             ed = f.get("edition", "")
-            return f"CODATA {ed} recommended value '{name}'".replace("CODATA  ", "CODATA ")
+            return f"CODATA {ed} recommended value '{name}'".replace("CODATA  ", "CODATA "), True
         if self.role == "published_data":
-            return f"published data: {f['citation']}" if f.get("citation") else "published data (citation not given)"
+            if f.get("citation"):
+                return f"published data: {f['citation']}", True
+            return "published data (citation not given)", False
         if self.role == "calibrated":
             parts = [f"certificate {f['certificate']}" if f.get("certificate") else "certificate not identified"]
             if f.get("issuer"):
                 parts.append(f"issued by {f['issuer']}")
             if f.get("date"):
                 parts.append(f"dated {f['date']}")
-            return "calibration: " + ", ".join(parts)
+            return "calibration: " + ", ".join(parts), bool(f.get("certificate"))
         if self.role == "lab_characterisation":
-            return (f"laboratory characterisation, report {f['report']}" if f.get("report")
-                    else "laboratory characterisation (report not identified)")
+            if f.get("report"):
+                return f"laboratory characterisation, report {f['report']}", True
+            return "laboratory characterisation (report not identified)", False
         if self.role == "convention":
-            return f"defined value: {f['definition']}" if f.get("definition") else "defined value"
+            return (f"defined value: {f['definition']}", True) if f.get("definition") else ("defined value", False)
         if self.role == "measured":
-            n = f" from {self.readings} readings" if self.readings else ""
-            return f"measured in this measurement (Type A{n})"
+            if self.readings:
+                return f"measured in this measurement (Type A from {self.readings} readings)", True
+            return "measured in this measurement (one value; its uncertainty as stated)", False
         if self.role == "specification":
-            return f"specification: {f['document']}" if f.get("document") else "specification (document not named)"
-        return "role not stated" + (f"; source given: {self.source}" if self.source else "")
+            if f.get("document"):
+                return f"specification: {f['document']}", True
+            return "specification (document not named)", False
+        return "role not stated" + (f"; source given: {self.source}" if self.source else ""), True
 
     def to_dict(self) -> dict:
         return {"symbol": self.symbol, "role": self.role, "stated": self.stated, "facts": dict(self.facts),

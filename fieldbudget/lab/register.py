@@ -396,6 +396,13 @@ def measurement_day(description: Mapping, where: str = "measurement") -> _dt.dat
     return None
 
 
+# the keys through which a section names the document its values come from (the measurement file's own keys)
+_IDENTITY_KEYS = {
+    "timebase": lambda c: {"certificate": c.id, "issuer": c.issuer, "calibration_date": c.date.isoformat()},
+    "probe_perturbation": lambda c: {"report": c.id},
+}
+
+
 def referring_sections(description: Mapping) -> list[str]:
     """The sections of a measurement description that name a register instrument (``metadata`` is free text)."""
     return [k for k, v in description.items() if k != "metadata" and isinstance(v, Mapping) and "instrument" in v]
@@ -491,6 +498,8 @@ def resolve_instruments(description: Mapping, register: Register, measurement_da
         body.update(values)
         if section == "timebase" and "ageing_per_day" in values and "days_since_calibration" not in body:
             body["days_since_calibration"] = days
+        for key, value in _IDENTITY_KEYS.get(section, lambda c: {})(cert).items():  # for the traceability chain
+            body.setdefault(key, value)
         body.setdefault("source", f"{ins.label}, certificate {cert.id} of {cert.date} ({cert.issuer})"
                         + ("" if state == "valid" else f"; used after its due date {cert.due}: {reason.strip()}"))
         out[section] = body

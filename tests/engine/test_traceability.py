@@ -58,3 +58,21 @@ def test_by_role_groups_in_role_order():
     b = _budget(InputQuantity.from_readings("a", [1.0, 1.1, 0.9]), InputQuantity.normal("b", 0.0, 1.0))
     groups = traceability(b).by_role()
     assert list(groups) == ["measured", ""]
+
+
+def test_a_missing_identity_is_said_and_the_source_text_shown_beside_it():
+    # the role decides the words; the free source text never decides them, but where the role's identifying
+    # fact (certificate, report, document, citation) is missing it is shown, marked "source given"
+    # (ISO/IEC 17025:2017 7.8.4.1 asks for the traceability of results; the wording is ours)
+    named = InputQuantity.normal("y_tb", 0.0, 5e-10, role="calibrated", source="OCXO certificate C-7 (invented)",
+                                 provenance={"certificate": "C-7", "date": "2026-08-04"})
+    unnamed = InputQuantity.normal("y_tb2", 0.0, 5e-10, role="calibrated", source="OCXO certificate C-7 (invented)")
+    bare = InputQuantity.normal("y_tb3", 0.0, 5e-10, role="calibrated")
+    once = InputQuantity.normal("t_s", 22.4, 0.3, role="measured", source="sample thermometer")
+    chain = traceability(_budget(named, unnamed, bare, once))
+    assert chain["y_tb"].text == "calibration: certificate C-7, dated 2026-08-04"
+    assert chain["y_tb2"].text == ("calibration: certificate not identified; source given: OCXO certificate C-7 "
+                                   "(invented)")
+    assert chain["y_tb3"].text == "calibration: certificate not identified"
+    # one measured value is not a Type A evaluation (JCGM 100:2008 4.2 needs repeated observations)
+    assert chain["t_s"].text.startswith("measured in this measurement (one value") and "Type A" not in chain["t_s"].text

@@ -96,13 +96,22 @@ def test_values_source_and_days_since_calibration_come_from_the_register():
     assert tb["offset"] == 2.1e-9 and tb["u"] == 5e-10 and tb["ageing_per_day"] == 3e-11
     assert tb["days_since_calibration"] == (dt.date(2026, 11, 10) - dt.date(2026, 8, 4)).days == 98
     assert "certificate LMCL-FS-2026-0712 of 2026-08-04" in tb["source"] and "instrument" not in tb
-    assert resolved["probe_perturbation"] == {"value": 0.0, "u": 1e-8, "source": resolved["probe_perturbation"]["source"]}
+    pp = resolved["probe_perturbation"]
+    assert pp == {"value": 0.0, "u": 1e-8, "report": "LMCL-PC-2025-031", "source": pp["source"]}
+    # the documents by their identity, for the traceability chain
+    assert (tb["certificate"], tb["calibration_date"]) == ("LMCL-FS-2026-0712", "2026-08-04") and tb["issuer"]
     assert "LMCL-PC-2025-031" in resolved["probe_perturbation"]["source"]
     assert [n.instrument for n in notes] == ["FC-9", "PX-3"] and all(n.state == "valid" for n in notes)
     assert resolved["metadata"]["register"][0]["certificate"] == "LMCL-FS-2026-0712"
     budget = NMRMeasurement.from_dict(resolved).to_budget()
     y_tb = next(q for q in budget.inputs if q.symbol == "y_tb")
     assert y_tb.estimate == 2.1e-9 and "LMCL-FS-2026-0712" in y_tb.source
+    from fieldbudget.engine.traceability import traceability
+
+    chain = traceability(budget)
+    assert chain["y_tb"].text.startswith("calibration: certificate LMCL-FS-2026-0712, issued by ")
+    assert chain["y_tb"].text.endswith("dated 2026-08-04") and "source given" not in chain["y_tb"].text
+    assert chain["d_probe"].text == "laboratory characterisation, report LMCL-PC-2025-031"
     # the description given is not changed
     assert _desc()["timebase"] == {"instrument": "FC-9"}
 

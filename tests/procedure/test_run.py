@@ -32,7 +32,8 @@ def test_measurement_dict_equals_hand_written(run):
         "timebase": {"offset": 2.1e-9, "u": 5.0e-10, "ageing_per_day": 3.0e-11,
                      "days_since_calibration": 140.0,
                      "source": "OCXO s/n OX-55031 in counter DEMO-FC-9 s/n FC9-30118, certificate "
-                               "LMCL-FS-2026-0712 of 2026-08-04 (invented)"},
+                               "LMCL-FS-2026-0712 of 2026-08-04 (invented)",
+                     "certificate": "LMCL-FS-2026-0712", "calibration_date": "2026-08-04"},
         "sample": {"temperature_C": 23.1, "u_temperature_C": 0.3, "shape": "sphere"},
         "line": {"fwhm_Hz": 8.0, "snr": 60.0, "points_per_fwhm": 10.0},
         "gradient_T_per_m": 2.0e-4,
@@ -40,7 +41,8 @@ def test_measurement_dict_equals_hand_written(run):
         "offset_m": 0.0,
         "u_offset_m": 2.0e-4,
         "probe_perturbation": {"value": 0.0, "u": 1.0e-8,
-                               "source": "Probe DEMO-PX-3 s/n PX3-2291, characterisation LMCL-PC-2025-031 (invented)"},
+                               "source": "Probe DEMO-PX-3 s/n PX3-2291, characterisation LMCL-PC-2025-031 (invented)",
+                               "report": "LMCL-PC-2025-031"},
     }
     assert run.measurement_dict() == expected
     assert json.loads(json.dumps(run.measurement_dict())) == expected

@@ -230,7 +230,9 @@ def test_traceability_chain_of_a_budget_from_the_nmr_layer(tmp_path):
     chain = build_report_data(rec).trace
     trace = {t.what: t.how for t in chain}
     role = {t.what: t.role for t in chain}
-    assert role["f_read"] == "measured (Type A)"
+    assert role["f_read"] == "measured"
+    n = len(json.loads(data.read_text())["frequency"]["readings_Hz"])
+    assert trace["f_read"] == f"measured in this measurement (Type A from {n} readings)"
     assert trace["gamma_p_sh"].startswith(f"CODATA {m.codata} recommended value 'shielded proton gyromag. ratio")
     # regression: the water data were called "CODATA 2022 recommended value"
     for sym in ("alpha_T", "chi"):

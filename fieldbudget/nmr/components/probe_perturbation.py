@@ -13,7 +13,8 @@ def _build(ctx: Context) -> Built | None:
     q = InputQuantity("d_probe", pp.number("value", 0.0), Normal(u=pp.number("u", required=True, nonnegative=True)),
                       unit="", source=pp.text("source", "lab's characterisation of the probe"),
                       description="fractional field change at the sample caused by the probe's materials",
-                      role="lab_characterisation")
+                      role="lab_characterisation",
+                      provenance={"report": pp.text("report")} if pp.has("report") else {})
     return Built(inputs=(q,), terms=(Term("denominator", "(1 + d_probe)"),))
 
 
@@ -25,6 +26,8 @@ COMPONENT = Component(
         Key("value", "number", "probe perturbation", "fractional (default 0)", lo=-1.0, lo_open=True),
         Key("u", "number", "its standard uncertainty", "**required**", lo=0.0, required=True),
         Key("source", "text", "characterisation", "free text"),
+        Key("report", "text", "characterisation report", "the identity of the lab's report, named in the "
+            "traceability chain"),
     ),
     build=_build,
 )

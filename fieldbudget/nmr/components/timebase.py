@@ -23,7 +23,12 @@ def _build(ctx: Context) -> Built | None:
         dist, role = Rectangular(half_width=tb.number("half_width", nonnegative=True)), "specification"
     else:
         dist, role = Normal(u=tb.number("u", 0.0, nonnegative=True)), "calibrated"
-    qs = [InputQuantity("y_tb", off, dist, unit="", source=src, role=role,
+    # the certificate by its identity, for the traceability chain (ISO/IEC 17025:2017 6.5, 7.8.4.1)
+    facts = {k: tb.text(key) for k, key in (("certificate", "certificate"), ("issuer", "issuer"),
+                                             ("date", "calibration_date")) if tb.has(key)}
+    prov = facts if role == "calibrated" else (
+        {"document": f"certificate {facts['certificate']}"} if "certificate" in facts else {})
+    qs = [InputQuantity("y_tb", off, dist, unit="", source=src, role=role, provenance=prov,
                         description="fractional offset of the timebase, f_true = f_read (1 + y)")]
     terms = [Term("fraction", "y_tb")]
     if tb.has("ageing_per_day") or tb.has("days_since_calibration"):
@@ -49,6 +54,10 @@ COMPONENT = Component(
             "+-|rate| x days, estimate 0", unit="1/day"),
         Key("days_since_calibration", "number", "days since calibration", unit="d", lo=0.0),
         Key("source", "text", "certificate", "free text"),
+        Key("certificate", "text", "certificate number", "the calibration certificate's identity, named in the "
+            "traceability chain"),
+        Key("issuer", "text", "issued by", "the calibration laboratory that issued it"),
+        Key("calibration_date", "text", "date of calibration", "as on the certificate (YYYY-MM-DD)"),
     ),
     build=_build,
 )
