@@ -27,6 +27,7 @@ import re
 from collections.abc import Callable, Mapping, Sequence
 
 from ..errors import ExpressionError, ModelEvaluationError
+from ._runtime import collector_paused
 
 __all__ = ["Expression", "FUNCTIONS", "CONSTANTS", "MAX_NESTING", "MAX_LENGTH", "parse_expression"]
 
@@ -107,17 +108,21 @@ class Expression:
         if depth > MAX_NESTING:
             raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep "
                                   f"(parentheses, signs in a row, powers of powers; this one is nested {depth})", where)
+        with collector_paused():  # tens of thousands of tree nodes for a long model (see engine._runtime)
+            self._build(allowed_symbols)
+
+    def _build(self, allowed_symbols: Sequence[str] | None) -> None:
         try:
             tree = _parse(self.text)
         except SyntaxError as err:
             col = (err.offset or 1) - 1
             raise ExpressionError(
                 "model", _shorten(self.text), f"valid arithmetic (syntax error at column {col + 1}: {err.msg})",
-                where, col
+                self._where, col
             ) from None
         except (RecursionError, MemoryError):
             raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep",
-                                  where) from None
+                                  self._where) from None
         symbols: list[str] = []
         self._check(tree.body, symbols, allowed_symbols)
         self.symbols = tuple(symbols)
