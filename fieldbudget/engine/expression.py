@@ -219,13 +219,17 @@ def _parse(text: str) -> ast.Expression:
     CPython builds the tree of ``a + b + c + ...`` recursively, one level per
     term.  The nesting check has already bounded the real nesting, so only
     such flat chains get here, and they are parsed with a larger recursion
-    limit on a thread with a large stack.
+    limit on a thread with a large stack.  A text with more operators than
+    half the recursion limit goes there at once: a parse that fails part way
+    costs as much as one that succeeds.
     """
-    try:
-        return ast.parse(text, mode="eval")
-    except RecursionError:
-        pass
     import sys
+
+    if sum(map(text.count, "+-*/,")) < sys.getrecursionlimit() // 2:
+        try:
+            return ast.parse(text, mode="eval")
+        except RecursionError:
+            pass
     import threading
 
     result: list = []
