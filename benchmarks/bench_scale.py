@@ -9,10 +9,15 @@ Run: .venv/bin/python benchmarks/bench_scale.py [--rounds N]
   indices, the matrix filled by numpy indexing, J from the known linear
   model).  Goal (issue 18): ratio <= 3.
 - independent: n = 1000, 3000 and 10 000 inputs, no correlation; the time per
-  input should stay flat (linear in n).
+  input should stay flat (linear in n).  The three sizes take turns in each
+  round, so a change in the machine's load reaches all three alike.
 - long model: a flat sum of 10 000 terms, build and evaluate (no recursion limit).
 
 Rounds are interleaved (engine, baseline, engine, ...) and medians are printed.
+Python's garbage collector runs as usual around both.  The engine pauses it
+while it builds and evaluates (``fieldbudget.engine._runtime``) and it runs
+once afterwards; the baseline allocates hardly any containers (its lists hold
+numbers), so the collector does not run during it.
 """
 
 from __future__ import annotations
@@ -77,10 +82,15 @@ def main() -> None:
     me, mp = statistics.median(te), statistics.median(tp)
     print(f"correlated, n = {n} ({len(pairs)} pairs): engine build + evaluate {me * 1e3:.0f} ms, "
           f"plain Python + numpy J V J^T {mp * 1e3:.0f} ms, ratio {me / mp:.2f} (goal <= 3)")
-    per = {}
-    for m in (1000, 3000, 10_000):
-        e, q = _linear(m)
-        per[m] = statistics.median(_time(lambda: engine(e, q, [])) for _ in range(max(1, args.rounds // 2)))
+    sizes = (1000, 3000, 10_000)
+    cases = {m: _linear(m) for m in sizes}
+    times: dict[int, list[float]] = {m: [] for m in sizes}
+    for _ in range(args.rounds):
+        for m in sizes:
+            e, q = cases[m]
+            times[m].append(_time(lambda: engine(e, q, [])))
+    per = {m: statistics.median(times[m]) for m in sizes}
+    for m in sizes:
         print(f"independent, n = {m:>6}: build + evaluate {per[m] * 1e3:7.0f} ms, {per[m] / m * 1e6:6.1f} us per input")
     print(f"independent: time per input at 10 000 over that at 1000: {per[10_000] / 10 / per[1000]:.2f} "
           "(1.0 is linear)")

@@ -21,6 +21,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..errors import BudgetFileError, CorrelationError, ExpressionError, FieldbudgetError, InputError
+from ._runtime import collector_paused, one_blas_thread
 from .distributions import TypeA
 from .model import Model
 from .quantities import InputQuantity
@@ -119,11 +120,19 @@ def _quick_pairs(items, symbols: list[str]) -> tuple | None:
     r = np.array(r_s, dtype=float)
     if not (np.all(np.isfinite(r)) and np.all(np.abs(r) <= 1)):
         return None
-    key = np.minimum(ia, ib) * len(symbols) + np.maximum(ia, ib)
-    order = np.argsort(key, kind="stable")
-    same = key[order][1:] == key[order][:-1]
-    if np.any(same & (r[order][1:] != r[order][:-1])):
-        return None  # a pair given twice with two different coefficients
+    m = len(symbols)
+    key = np.minimum(ia, ib) * m + np.maximum(ia, ib)
+    if m * m <= 16 * n + (1 << 20):  # a mark per possible pair costs less than sorting the keys
+        seen = np.zeros(m * m, dtype=bool)
+        seen[key] = True
+        repeated = np.count_nonzero(seen) < n
+    else:
+        repeated = True  # unknown: the sort below tells
+    if repeated:
+        order = np.argsort(key, kind="stable")
+        same = key[order][1:] == key[order][:-1]
+        if np.any(same & (r[order][1:] != r[order][:-1])):
+            return None  # a pair given twice with two different coefficients
     if all_float and {tuple}.issuperset(map(type, items)):
         return items, ia, ib, r  # already (a, b, float r) triples
     return list(zip(map(itemgetter(0), items), map(itemgetter(1), items), r.tolist())), ia, ib, r
@@ -189,6 +198,10 @@ class Budget:
     units: str = "checked"
 
     def __post_init__(self) -> None:
+        with collector_paused():  # a budget of thousands of inputs allocates in bursts (see engine._runtime)
+            self._check_and_settle()
+
+    def _check_and_settle(self) -> None:
         model = Model.from_expression(self.model) if isinstance(self.model, str) else self.model
         if not isinstance(model, Model):
             raise InputError("model", self.model, "a Model or an expression string")
@@ -334,12 +347,16 @@ class Budget:
 
     def correlation_matrix(self) -> np.ndarray:
         """Correlation coefficients r(x_i, x_j) in the order of :attr:`inputs`."""
+        return self._shared_correlation_matrix().copy()  # callers get a copy they may change
+
+    def _shared_correlation_matrix(self) -> np.ndarray:
+        """The read-only matrix the engine shares (built once: a budget is immutable)."""
         cached = self.__dict__.get("_correlation_matrix")
-        if cached is None:  # built once (a budget is immutable); callers get a copy they may change
+        if cached is None:
             cached = self._build_correlation_matrix()
             cached.setflags(write=False)
             object.__setattr__(self, "_correlation_matrix", cached)
-        return cached.copy()
+        return cached
 
     def _build_correlation_matrix(self) -> np.ndarray:
         syms = self.symbols
@@ -371,15 +388,20 @@ class Budget:
     def _check_psd(self) -> None:
         if not self.has_correlations:
             return
-        r = self.correlation_matrix()
-        try:
-            # Cholesky succeeds only when every eigenvalue exceeds -0.5e-10: positive semi-definite within
-            # the 1e-10 allowed below, at a fraction of the cost of the eigenvalues
-            np.linalg.cholesky(r + 0.5e-10 * np.eye(len(r)))
-            return
-        except np.linalg.LinAlgError:
-            pass
-        w = np.linalg.eigvalsh(r)
+        from scipy.linalg.lapack import dpotrf
+
+        r = self._shared_correlation_matrix()
+        shifted = r.copy()
+        shifted.flat[:: len(r) + 1] += 0.5e-10  # r + 0.5e-10 I without an identity matrix
+        with one_blas_thread():
+            # Cholesky (LAPACK dpotrf) succeeds only when every eigenvalue exceeds -0.5e-10: positive
+            # semi-definite within the 1e-10 allowed below, at a fraction of the cost of the eigenvalues.
+            # r is symmetric, so its transpose is the same matrix in the column order LAPACK factorises
+            # in place, without a copy
+            _, info = dpotrf(shifted.T, lower=0, overwrite_a=1, clean=0)
+            if info == 0:
+                return
+            w = np.linalg.eigvalsh(r)
         if w[0] >= -1e-10:
             return
         syms = self.symbols

@@ -373,6 +373,9 @@ def prepare(budget):
     """:func:`check`, cached on the budget object (a budget is immutable)."""
     cached = budget.__dict__.get("_units_prepared")
     if cached is None:
-        cached = check(budget)
+        checked, notes = check(budget)
+        # an unchanged budget is kept as None: a reference to itself would make every budget a reference
+        # cycle, whose matrices only the garbage collector frees
+        cached = (None if checked is budget else checked, notes)
         object.__setattr__(budget, "_units_prepared", cached)
-    return cached
+    return (budget if cached[0] is None else cached[0]), cached[1]

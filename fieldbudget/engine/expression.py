@@ -27,6 +27,7 @@ import re
 from collections.abc import Callable, Mapping, Sequence
 
 from ..errors import ExpressionError, ModelEvaluationError
+from ._runtime import collector_paused
 
 __all__ = ["Expression", "FUNCTIONS", "CONSTANTS", "MAX_NESTING", "MAX_LENGTH", "parse_expression"]
 
@@ -107,17 +108,21 @@ class Expression:
         if depth > MAX_NESTING:
             raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep "
                                   f"(parentheses, signs in a row, powers of powers; this one is nested {depth})", where)
+        with collector_paused():  # tens of thousands of tree nodes for a long model (see engine._runtime)
+            self._build(allowed_symbols)
+
+    def _build(self, allowed_symbols: Sequence[str] | None) -> None:
         try:
             tree = _parse(self.text)
         except SyntaxError as err:
             col = (err.offset or 1) - 1
             raise ExpressionError(
                 "model", _shorten(self.text), f"valid arithmetic (syntax error at column {col + 1}: {err.msg})",
-                where, col
+                self._where, col
             ) from None
         except (RecursionError, MemoryError):
             raise ExpressionError("model", _shorten(self.text), f"nested at most {MAX_NESTING} levels deep",
-                                  where) from None
+                                  self._where) from None
         symbols: list[str] = []
         self._check(tree.body, symbols, allowed_symbols)
         self.symbols = tuple(symbols)
@@ -214,13 +219,17 @@ def _parse(text: str) -> ast.Expression:
     CPython builds the tree of ``a + b + c + ...`` recursively, one level per
     term.  The nesting check has already bounded the real nesting, so only
     such flat chains get here, and they are parsed with a larger recursion
-    limit on a thread with a large stack.
+    limit on a thread with a large stack.  A text with more operators than
+    half the recursion limit goes there at once: a parse that fails part way
+    costs as much as one that succeeds.
     """
-    try:
-        return ast.parse(text, mode="eval")
-    except RecursionError:
-        pass
     import sys
+
+    if sum(map(text.count, "+-*/,")) < sys.getrecursionlimit() // 2:
+        try:
+            return ast.parse(text, mode="eval")
+        except RecursionError:
+            pass
     import threading
 
     result: list = []

@@ -46,6 +46,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from ..errors import InputError, ModelEvaluationError
+from ._runtime import collector_paused
 from .budget import Budget
 from .coverage import coverage_factor
 from .results import BudgetResult, Contribution, VectorResult
@@ -123,10 +124,19 @@ def correlated_sets(R: np.ndarray) -> list[tuple[int, ...]]:
     Graph components by ``scipy.sparse.csgraph.connected_components``; two inputs are linked when their
     correlation coefficient is not zero.
     """
+    from scipy.sparse import csr_array
     from scipy.sparse.csgraph import connected_components
 
-    linked = np.abs(R - np.diag(np.diag(R))) > 0
-    _, labels = connected_components(linked, directed=False)
+    n = len(R)
+    # the links above the diagonal as a sparse graph whose rows are written directly: a dense matrix would
+    # go through scipy's dense-to-sparse conversion, and float64 data with int32 indices is what the
+    # traversal uses without converting again
+    upper = np.triu(R != 0, 1)
+    starts = np.zeros(n + 1, dtype=np.int32)
+    np.cumsum(np.count_nonzero(upper, axis=1), out=starts[1:])
+    columns = (np.flatnonzero(upper) % n).astype(np.int32)
+    graph = csr_array((np.ones(len(columns)), columns, starts), shape=(n, n))
+    _, labels = connected_components(graph, directed=False)
     sets: dict[int, list[int]] = {}
     for i, label in enumerate(labels):
         sets.setdefault(int(label), []).append(i)
@@ -147,7 +157,10 @@ def welch_satterthwaite_correlated(uc: float, c: np.ndarray, V: np.ndarray, nu: 
     notes = []
     for g in sets:
         idx = list(g)
-        ug2 = float(c[idx] @ V[np.ix_(idx, idx)] @ c[idx])
+        if len(idx) == len(c):  # one set of every input: V itself, not an n x n copy of it (same numbers)
+            ug2 = float(c @ V @ c)
+        else:
+            ug2 = float(c[idx] @ V[np.ix_(idx, idx)] @ c[idx])
         if ug2 <= 0:
             continue
         nus = nu[idx]
@@ -204,6 +217,14 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     """
     if not isinstance(budget, Budget):
         raise InputError("budget", budget, "a Budget")
+    # no garbage collection during the burst of small objects (engine._runtime).  The products below keep
+    # numpy's own threading: a result computed on one thread could differ in its last bit from the same
+    # budget's earlier records, which must verify exactly
+    with collector_paused():
+        return _evaluate(budget, second_order)
+
+
+def _evaluate(budget: Budget, second_order: bool) -> BudgetResult | VectorResult:
     from .dimensions import prepare
 
     budget, unit_notes = prepare(budget)
@@ -213,8 +234,9 @@ def evaluate(budget: Budget, *, second_order: bool = False) -> BudgetResult | Ve
     R = V = None
     with np.errstate(all="ignore"):
         if budget.has_correlations:
-            R = budget.correlation_matrix()
-            V = R * np.outer(u, u)
+            R = budget._shared_correlation_matrix()  # read-only, not copied
+            V = np.outer(u, u)
+            V *= R  # the numbers of R * outer(u, u), one n x n array fewer
             cov = C @ V @ C.T
         else:
             # V is diagonal: no n x n matrix (10 000 inputs would need 800 MB), the same numbers as C V C^T
