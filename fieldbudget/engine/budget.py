@@ -138,6 +138,10 @@ def _quick_pairs(items, symbols: list[str]) -> tuple | None:
     return list(zip(map(itemgetter(0), items), map(itemgetter(1), items), r.tolist())), ia, ib, r
 
 
+#: Inputs searched for a 3 x 3 inconsistent set when the correlation matrix is not positive semi-definite.
+_TRIPLE_SEARCH = 30
+
+
 @dataclass(frozen=True)
 class Budget:
     """A measurement model with its inputs, correlations and coverage policy.
@@ -401,15 +405,19 @@ class Budget:
             _, info = dpotrf(shifted.T, lower=0, overwrite_a=1, clean=0)
             if info == 0:
                 return
-            w = np.linalg.eigvalsh(r)
+            w, vecs = np.linalg.eigh(r)
         if w[0] >= -1e-10:
             return
         syms = self.symbols
-        # name the smallest inconsistent set: a 3x3 principal minor that is negative
-        n = len(syms)
-        for i in range(n):
-            for j in range(i + 1, n):
-                for k in range(j + 1, n):
+        # name the smallest inconsistent set: a 3x3 principal minor that is negative.  Searched among the
+        # inputs that weigh most in the eigenvector of the negative eigenvalue (all of them up to 30 inputs),
+        # so that a large budget gets its answer in milliseconds, not after 1e8 triples
+        weight = np.abs(vecs[:, 0])
+        near = sorted(np.argsort(-weight, kind="stable")[:_TRIPLE_SEARCH].tolist())
+        for x, i in enumerate(near):
+            for y in range(x + 1, len(near)):
+                j = near[y]
+                for k in near[y + 1:]:
                     sub = r[np.ix_([i, j, k], [i, j, k])]
                     if np.linalg.eigvalsh(sub)[0] < -1e-10:
                         a, b, c = syms[i], syms[j], syms[k]
@@ -418,8 +426,10 @@ class Budget:
                             f"r({b},{c})={sub[1, 2]:g}",
                             f"positive semi-definite (these three coefficients between {a!r}, {b!r} and {c!r} "
                             "cannot hold together)", pair=(a, b))
+        most = ", ".join(repr(syms[i]) for i in np.argsort(-weight, kind="stable")[:5])
         raise CorrelationError("correlation matrix", f"smallest eigenvalue {w[0]:.3g}",
-                               "positive semi-definite (the coefficients cannot hold together)")
+                               f"positive semi-definite (the coefficients cannot hold together; the inputs "
+                               f"most involved: {most})")
 
     # -- budget file --------------------------------------------------------------
     def to_dict(self) -> dict:

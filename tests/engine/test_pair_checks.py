@@ -145,3 +145,22 @@ def test_a_budget_is_freed_without_the_garbage_collector():
         assert ref() is None
     finally:
         gc.enable()
+
+
+def test_an_inconsistent_matrix_of_many_inputs_is_refused_at_once_with_the_inputs_named():
+    # equal correlation r = -0.01 between 300 inputs: every 3 x 3 minor is positive definite
+    # (1 + 2r > 0), but the smallest eigenvalue of the whole matrix is 1 + (n - 1) r = -1.99 < 0 (common
+    # practice: the eigenvalues of an equicorrelation matrix are 1 - r and 1 + (n - 1) r).  Regression: the
+    # search for an inconsistent triple ran over all n^3/6 triples (4.5e6 here, 1.7e8 at 1000 inputs)
+    import pytest
+
+    from fieldbudget.engine import Budget, InputQuantity
+    from fieldbudget.errors import CorrelationError
+
+    n = 300
+    qs = tuple(InputQuantity.normal(f"x{i}", 0.0, 1.0) for i in range(n))
+    pairs = tuple((f"x{i}", f"x{j}", -0.01) for i in range(n) for j in range(i + 1, n))
+    with pytest.raises(CorrelationError) as err:
+        Budget(model=" + ".join(q.symbol for q in qs), inputs=qs, correlations=pairs)
+    text = str(err.value)
+    assert "smallest eigenvalue -1.99" in text and "the inputs most involved: 'x" in text
