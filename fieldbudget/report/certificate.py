@@ -21,6 +21,7 @@ ISO/IEC 17025 and ILAC P14; templating is jinja2 and PDF is chromium.
 from __future__ import annotations
 
 from collections.abc import Mapping
+import math
 from dataclasses import dataclass, field, replace
 from html import escape as _esc
 from typing import Any
@@ -96,6 +97,9 @@ class CertificateContent:
     digest: str
     remarks: str = ""
     plot_svg: str = field(default="", repr=False)
+    # the curve's coefficients: (name, value, unit, standard uncertainty), and their correlation coefficients
+    curve_rows: tuple = ()
+    curve_correlations: tuple = ()
 
     @property
     def conformity_stated(self) -> bool:
@@ -228,14 +232,15 @@ def certificate_content(record: Any) -> CertificateContent:
                     "field: then state the interval, not error ± U.")
 
     curve = summ.get("curve")
-    use = ""
+    use, curve_rows, curve_corr = "", (), ()
     if curve:
         a = curve["coefficients"]
         x0 = curve["x0"]
         fit = (res.get("curve") or {}).get("fit") or {}
         lo, hi = fit.get("x_range", [None, None])
         terms = " + ".join([f"{a[0]:.6g} T"] + [f"{c:.6g} (R − {x0:.6g} T)" + (f"^{j}" if j > 1 else "")
-                                                 + ("" if j == 1 else "") for j, c in enumerate(a) if j >= 1])
+                                                 for j, c in enumerate(a) if j >= 1])
+        curve_rows, curve_corr = _coefficient_rows(curve)
         if curve["form"] == "error":
             use = (f"Error of the indication R (in T): E(R) = {terms}. The corrected field for a later reading R "
                    f"is B = R − E(R). Use it only for readings between {lo:.6g} T and {hi:.6g} T; outside that "
@@ -275,8 +280,25 @@ def certificate_content(record: Any) -> CertificateContent:
         interval_statement=interval, curve=curve, curve_use=use, conformity=conf, decision_rule=rule,
         signatures=sigs, authorised_by=auth, propagation=str(res.get("propagation", "")),
         warnings=tuple(summ.get("warnings") or ()), digest=record.digest, remarks=_txt(cf, "remarks"),
+        curve_rows=curve_rows, curve_correlations=curve_corr,
     )
     return replace(content, plot_svg=_plot(summ, res))
+
+
+def _coefficient_unit(j: int) -> str:
+    """The unit of a_j in E = a0 + a1 (R - x0) + a2 (R - x0)^2 + ..., with E and R in T: T^(1 - j)."""
+    return {0: "T", 1: "1", 2: "1/T"}.get(j, f"T^-{j - 1}")
+
+
+def _coefficient_rows(curve: Mapping) -> tuple[tuple, tuple]:
+    """(a_j, value, unit, u(a_j)) for each coefficient, and (a_i, a_j, r) for each pair, from the covariance
+    of the fit (u = sqrt of the diagonal; r_ij = cov_ij / (u_i u_j), JCGM 100:2008 5.2.2)."""
+    a, cov = list(curve["coefficients"]), curve.get("covariance") or []
+    u = [math.sqrt(cov[j][j]) if j < len(cov) and cov[j][j] >= 0 else float("nan") for j in range(len(a))]
+    rows = tuple((f"a{j}", f"{v:.8g}", _coefficient_unit(j), f"{u[j]:.1e}") for j, v in enumerate(a))
+    corr = tuple((f"a{i}", f"a{j}", f"{cov[i][j] / (u[i] * u[j]):+.3f}") for i in range(len(a))
+                 for j in range(i + 1, len(a)) if u[i] > 0 and u[j] > 0)
+    return rows, corr
 
 
 # ------------------------------------------------------------------------------------------ the plot

@@ -102,6 +102,23 @@ def test_results_in_mT_and_uT_with_the_error_rounded_to_U(content, record):
     assert "probabilistically symmetric" in content.interval_statement
 
 
+def test_the_curve_coefficients_carry_their_unit_uncertainty_and_correlation(content, record):
+    # u(a_j) = sqrt(V_jj) and r_ij = V_ij / (u_i u_j) (JCGM 100:2008 5.2.2), recomputed here with numpy
+    import numpy as np
+
+    curve = record.results["summary"]["curve"]
+    V = np.array(curve["covariance"])
+    u = np.sqrt(np.diag(V))
+    assert [r[0] for r in content.curve_rows] == [f"a{j}" for j in range(len(u))]
+    assert [r[2] for r in content.curve_rows][:2] == ["T", "1"]   # E in T, (R - x0) in T
+    for (_, value, _, u_text), a, uj in zip(content.curve_rows, curve["coefficients"], u):
+        assert float(value) == pytest.approx(a, rel=1e-7) and float(u_text) == pytest.approx(uj, rel=0.05)
+    (x, y, r), = content.curve_correlations  # degree 1: one pair
+    assert (x, y) == ("a0", "a1") and float(r) == pytest.approx(V[0, 1] / (u[0] * u[1]), abs=5e-4)
+    md = render_content(content, "md").decode("utf-8")
+    assert f"r(a0, a1) = {r}" in md and "| a1 |" in md
+
+
 def test_signature_lines_from_the_record(record):
     doc = record.to_dict()
     doc["signatures"] = [{"name": "I. Marchetti", "role": "approver", "fingerprint": "ab12", "time":
