@@ -45,7 +45,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from ..errors import InputError, ModelEvaluationError
+from ..errors import Finding, InputError, ModelEvaluationError
 from ._runtime import collector_paused
 from .budget import Budget
 from .coverage import coverage_factor
@@ -310,9 +310,11 @@ def _evaluate(budget: Budget, second_order: bool) -> BudgetResult | VectorResult
                 else set(budget.model.function_symbols))
         for q, ci in zip(budget.inputs, c):
             if ci == 0 and q.standard_uncertainty > 0 and q.symbol in used:
-                if budget.second_order:
-                    warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate; u_c includes "
-                                "the second-order terms (JCGM 100:2008 5.1.2), which carry its uncertainty")
+                if budget.second_order:  # handled: a note on the choice, not a warning to act on
+                    warn.append(Finding(f"input {q.symbol!r} has zero first-order sensitivity at its estimate; u_c "
+                                        "includes the second-order terms (JCGM 100:2008 5.1.2), which carry its "
+                                        "uncertainty", code="gum.zero_sensitivity_second_order",
+                                        key=f"inputs.{q.symbol}", values={"symbol": q.symbol}, severity="note"))
                 else:
                     warn.append(f"input {q.symbol!r} has zero first-order sensitivity at its estimate, so "
                                 "first-order propagation ignores its uncertainty; if the model is nonlinear in it "

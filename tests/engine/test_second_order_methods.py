@@ -107,3 +107,19 @@ def test_unknown_method_is_refused_with_what_is_allowed():
     with pytest.raises(InputError, match=r"second_order_method must be one of \[1, 2\]"):
         with second_order.method_version(3):
             pass
+
+
+def test_zero_first_order_sensitivity_is_a_note_when_the_second_order_terms_carry_it():
+    # y = x^2 at x = 0: c = 0, the uncertainty enters only through the second-order term
+    # u^2 = 2 (d2y/dx2 / 2)^2 u^4 ... (JCGM 100:2008 5.1.2, Note); with second_order the engine has handled it
+    # (a note on that choice), without it the uncertainty is lost (a warning to act on)
+    from fieldbudget.engine import Budget, InputQuantity, evaluate
+
+    x = InputQuantity.normal("x", 0.0, 0.1)
+    handled = evaluate(Budget(model="x**2", inputs=(x,), second_order=True))
+    (w,) = [w for w in handled.warnings if "zero first-order sensitivity" in w]
+    assert w.severity == "note" and w.key == "inputs.x"
+    assert handled.standard_uncertainty == pytest.approx(2 ** 0.5 * 0.1 ** 2, rel=1e-12)  # sqrt(2 u^4)
+    lost = evaluate(Budget(model="x**2", inputs=(x,)))
+    (w,) = [w for w in lost.warnings if "zero first-order sensitivity" in w]
+    assert getattr(w, "severity", "warning") == "warning" and lost.standard_uncertainty == 0
