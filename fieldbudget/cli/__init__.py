@@ -23,7 +23,7 @@ __all__ = ["main", "COMMANDS"]
 
 # Order is the order of `fieldbudget --help`.
 COMMANDS = ("evaluate", "larmor", "nmr", "line", "map", "calibrate", "record", "verify", "sign", "key", "compare",
-            "report", "certificate", "demo", "register", "archive", "monitor", "competence")
+            "report", "certificate", "cmc", "demo", "register", "archive", "monitor", "competence")
 
 
 class _Parser(argparse.ArgumentParser):
