@@ -12,8 +12,7 @@ from __future__ import annotations
 import statistics
 import time
 
-from fieldbudget.engine import Budget, InputQuantity, Measurand, evaluate
-from fieldbudget.engine import dimensions
+from fieldbudget.engine import Budget, InputQuantity, Measurand, dimensions, evaluate
 
 
 def nonlinear_15(units: str = "checked") -> Budget:

@@ -88,7 +88,7 @@ def main() -> None:
     for _ in range(args.rounds):
         for m in sizes:
             e, q = cases[m]
-            times[m].append(_time(lambda: engine(e, q, [])))
+            times[m].append(_time(lambda e=e, q=q: engine(e, q, [])))
     per = {m: statistics.median(times[m]) for m in sizes}
     for m in sizes:
         print(f"independent, n = {m:>6}: build + evaluate {per[m] * 1e3:7.0f} ms, {per[m] / m * 1e6:6.1f} us per input")

@@ -22,6 +22,7 @@ from typing import Any
 from matplotlib.figure import Figure
 
 from ._display import escape, fmt_si, pretty_unit
+
 __all__ = ["control_chart", "drift_chart", "field_map_figure", "img_html", "line_fit_figure", "mc_histogram",
            "share_chart", "to_png", "to_svg", "calibration_curve",
            "register_display"]

@@ -15,8 +15,8 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Mapping
-from operator import itemgetter
 from dataclasses import dataclass, field, replace
+from operator import itemgetter
 
 import numpy as np
 

@@ -33,7 +33,7 @@ from pathlib import Path
 from typing import Any
 
 from .._display import html_table
-from .._io import read_bytes, parse_json
+from .._io import parse_json, read_bytes
 from ..errors import BudgetFileError, InputError, OutputError
 from .record import Check, VerifyResult, _freeze, _jsonable, _thaw, compute_digest
 

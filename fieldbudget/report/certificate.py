@@ -20,8 +20,8 @@ ISO/IEC 17025 and ILAC P14; templating is jinja2 and PDF is chromium.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from html import escape as _esc
 from typing import Any

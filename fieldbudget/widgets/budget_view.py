@@ -80,7 +80,8 @@ def budget_table_html(result: Any) -> str:
                    + f'<td class="fb-source" style="min-width:18em">{escape(src)}</td></tr>')
     out.append("</tbody><tfoot><tr>"
                '<td colspan="6">combined standard uncertainty u<sub>c</sub></td>'
-               f'<td class="fb-uc" style="text-align:right;white-space:nowrap">{escape(format_u(result.standard_uncertainty, unit))}</td>'
+               '<td class="fb-uc" style="text-align:right;white-space:nowrap">'
+               f'{escape(format_u(result.standard_uncertainty, unit))}</td>'
                f'<td colspan="2">\u03bd<sub>eff</sub>{_eq_dof(result.effective_dof)}</td>'
                "</tr></tfoot></table></div>")
     return "".join(out)

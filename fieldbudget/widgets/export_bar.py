@@ -153,9 +153,8 @@ class ExportBar(w.VBox):
         if self.draft.budget is None:
             self.status.value = status_html("nothing to record yet: no budget could be evaluated")
             return
-        from ..files.record import save_record
-
         from ..files.guard import check_output
+        from ..files.record import save_record
 
         target = check_output(self._target(".record.json"), force=True, what="record")
         if target.exists():

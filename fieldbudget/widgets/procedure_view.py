@@ -45,7 +45,7 @@ from ..errors import FieldbudgetError
 from ..procedure import Component, ProcedureRun, load_procedure
 from ._binding import LAST_GOOD, css, guarded, status_html, user_words
 from ._style import style_widget
-from .budget_view import BudgetView, format_u
+from .budget_view import BudgetView
 from .export_bar import ExportBar
 from .montecarlo_panel import MonteCarloPanel
 from .screens import acceptance_html, calibration_outcome_html, cmc_html

@@ -43,8 +43,8 @@ def _double(tl, tu, al, au, y0, u0, u, conforming: bool, accepted: bool) -> floa
             total += integrate.dblquad(density, e0, e1, al, au, epsabs=1e-12, epsrel=1e-8)[0]
         else:
             span = 12 * u
-            total += integrate.dblquad(density, e0, e1, lambda e: e - span, al, epsabs=1e-12, epsrel=1e-8)[0]
-            total += integrate.dblquad(density, e0, e1, au, lambda e: e + span, epsabs=1e-12, epsrel=1e-8)[0]
+            total += integrate.dblquad(density, e0, e1, lambda e, span=span: e - span, al, epsabs=1e-12, epsrel=1e-8)[0]
+            total += integrate.dblquad(density, e0, e1, au, lambda e, span=span: e + span, epsabs=1e-12, epsrel=1e-8)[0]
     return total
 
 

@@ -22,7 +22,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from fieldbudget.engine import Budget, InputQuantity, budget as budget_module, evaluate
+from fieldbudget.engine import Budget, InputQuantity, evaluate
+from fieldbudget.engine import budget as budget_module
 from fieldbudget.engine._runtime import collector_paused, one_blas_thread
 from fieldbudget.engine.gum import correlated_sets
 from fieldbudget.errors import FieldbudgetError
@@ -110,7 +111,7 @@ def test_the_collector_comes_back_as_it_was():
     assert gc.isenabled()
     with pytest.raises(ZeroDivisionError):
         with collector_paused():
-            1 / 0
+            _ = 1 / 0
     assert gc.isenabled()
     gc.disable()
     try:

@@ -369,7 +369,7 @@ def test_measurement_is_immutable_and_hashable():
 
 def test_monte_carlo_validates_the_example_budget():
     # JCGM 101:2008 clause 8: GUM interval validated by Monte Carlo (engine's validation, fixed seed)
-    from fieldbudget.engine import montecarlo, validation
+    from fieldbudget.engine import validation
 
     budget = NMRMeasurement.from_file(DATA / "water_cylinder_1p5T.json").to_budget()
     mc, check = validation.validate_adaptive(evaluate(budget), budget, seed=20261202)

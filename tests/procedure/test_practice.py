@@ -56,7 +56,7 @@ def test_the_kit_reproduces_the_labs_reference_answer(procedures, path, case):
     s = _session(procedures, path, case)
     result = s.submit()
     assert result.passed, result.summary_text()
-    for q, unit, mine, ref, tol, within in result.results:
+    for q, _unit, mine, ref, tol, within in result.results:
         assert within, (q, mine, ref, tol)
     inputs = {q.symbol: q for q in s.run.last_budget.inputs}
     for symbol, (estimate, u) in s.case.answer.inputs.items():
