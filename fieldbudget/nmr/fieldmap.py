@@ -295,19 +295,21 @@ class FieldMap:
         return f"<FieldMap {self.n_points} points {u} per-point u{src}>"
 
 
-def read_map(path: str | Path, *, nucleus: str | None = None, codata: int | None = None) -> FieldMap:
+def read_map(path: str | Path, *, nucleus: str | None = None, codata: int | None = None,
+             data: bytes | None = None) -> FieldMap:
     """Read a CSV map: ``x_m,y_m,z_m`` and ``f_Hz`` or ``B_T``, optionally ``u_f_Hz`` or ``u_B_T``.
 
     An ``f_Hz`` map is converted to B with ``nucleus`` (default the shielded
     proton) in CODATA edition ``codata`` (default the newest): B = f/(gamma/2pi).
     The reference ratio's own uncertainty is common to every point; it scales
-    the whole map and is left to the budget that uses the map.
+    the whole map and is left to the budget that uses the map.  ``data``: the
+    file's bytes when already read (see :func:`~fieldbudget.nmr._csvdata.read_table`).
     """
     from .nuclei import DEFAULT_NUCLEUS
     from .nuclei import nucleus as _nucleus
 
     table = read_table(path, needed=(("x_m",), ("y_m",), ("z_m",), ("f_Hz", "B_T")), optional=("u_f_Hz", "u_B_T"),
-                       min_rows=2, what="field map")
+                       min_rows=2, what="field map", data=data)
     xyz = np.column_stack([table.column(c) for c in ("x_m", "y_m", "z_m")])
     if table.has("B_T"):
         if table.has("u_f_Hz"):

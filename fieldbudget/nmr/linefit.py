@@ -128,10 +128,12 @@ class Trace:
         return f"<Trace {what}, {self.n_points} points{src}>"
 
 
-def read_trace(path: str | Path) -> Trace:
-    """Read a CSV trace: ``f_Hz,signal`` or ``t_s,signal[,signal_im]`` (header row; ``#`` comment lines first)."""
+def read_trace(path: str | Path, *, data: bytes | None = None) -> Trace:
+    """Read a CSV trace: ``f_Hz,signal`` or ``t_s,signal[,signal_im]`` (header row; ``#`` comment lines first).
+
+    ``data``: the file's bytes when already read (see :func:`~fieldbudget.nmr._csvdata.read_table`)."""
     table = read_table(path, needed=(("f_Hz", "t_s"), ("signal",)), optional=("signal_im",), min_rows=8,
-                       what="trace")
+                       what="trace", data=data)
     axis = "f_Hz" if table.has("f_Hz") else "t_s"
     if axis == "f_Hz" and table.has("signal_im"):
         raise BudgetFileError(table.path, "header", "signal_im belongs to an FID (t_s); a swept line has f_Hz,signal")

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..._io import read_named_text
+from ..._io import read_named_file
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import fieldmap
 from ._base import Built, Component, Context, Key, Term
@@ -42,10 +42,10 @@ def _build(ctx: Context) -> Built | None:
     order = fm.number("order", 4.0)
     if order != int(order):
         raise fm.fail("order", f"must be a whole number (got {order!r})")
-    _, target = read_named_text(name, m.base_dir, m.where, fm.at("path"))
+    raw, _, target = read_named_file(name, m.base_dir, m.where, fm.at("path"))
     sample = _sample_region(ctx, fm)
     try:
-        fmap = fieldmap.read_map(Path(target), nucleus=ctx.nucleus.name, codata=ctx.codata)
+        fmap = fieldmap.read_map(Path(target), nucleus=ctx.nucleus.name, codata=ctx.codata, data=raw)
         fit = fieldmap.fit_map(fmap, int(order))
         terms = fieldmap.sample_terms(fit, pos, reference_point_m=ref, u_sample_position_m=u_pos, sample=sample)
     except BudgetFileError as err:
