@@ -20,6 +20,7 @@ from ..._io import read_named_file
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import fieldmap
 from ._base import Built, Component, Context, Key, Term
+from .shape import cylinder_size
 
 
 def _build(ctx: Context) -> Built | None:
@@ -70,12 +71,9 @@ def _sample_region(ctx: Context, fm) -> dict | None:
         return {"shape": "sphere", "diameter_m": d}
     if shape != "cylinder":
         raise fm.fail(None, f"a map's volume average needs a sphere or a finite cylinder (sample shape is {shape!r})")
-    length = sample.number("length_m", positive=True)
+    length = cylinder_size(sample).length_m
     if length is None:
-        g = sample.number("length_over_diameter", positive=True)
-        if g is None:
-            raise sample.fail("length_m", "missing: the cylinder length in m is needed for the map's volume average")
-        length = g * d
+        raise sample.fail("length_m", "missing: the cylinder length in m is needed for the map's volume average")
     axis = fm.choice("sample_axis") or ("z" if sample.choice("axis", ("parallel", "perpendicular")) == "parallel"
                                         else "x")
     return {"shape": "cylinder", "diameter_m": d, "length_m": length, "axis": axis}
