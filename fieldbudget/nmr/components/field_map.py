@@ -14,11 +14,14 @@ come with it.
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path
 
 from ..._io import read_named_file
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import fieldmap
+from .._csvdata import digest_of
 from ._base import Built, Component, Context, Key, Term
 from .shape import cylinder_size
 
@@ -46,8 +49,7 @@ def _build(ctx: Context) -> Built | None:
     raw, _, target = read_named_file(name, m.base_dir, m.where, fm.at("path"))
     sample = _sample_region(ctx, fm)
     try:
-        fmap = fieldmap.read_map(Path(target), nucleus=ctx.nucleus.name, codata=ctx.codata, data=raw)
-        fit = fieldmap.fit_map(fmap, int(order))
+        fit = _fitted_map(_MapBytes(digest_of(raw), raw), str(target), ctx.nucleus.name, ctx.codata, int(order))
         terms = fieldmap.sample_terms(fit, pos, reference_point_m=ref, u_sample_position_m=u_pos, sample=sample)
     except BudgetFileError as err:
         raise BudgetFileError(m.where, fm.at("path"), f"{name!r}, {err.pointer}: {err.reason}") from None
@@ -59,6 +61,22 @@ def _build(ctx: Context) -> Built | None:
         ctx.facts["second_order"] = ctx.facts.get("second_order", False) or terms.second_order
     return Built(inputs=tuple(terms.inputs), terms=(Term("subtract", terms.expression),),
                  correlations=tuple(terms.correlations), findings=tuple(fit.warnings))
+
+
+@dataclass(frozen=True)
+class _MapBytes:
+    """A map file's bytes, compared and hashed by their digest only (the cache key stays small to hash)."""
+
+    digest: str
+    data: bytes = field(compare=False, repr=False)
+
+
+@lru_cache(maxsize=4)
+def _fitted_map(raw: _MapBytes, path: str, nucleus: str, codata: int | None, order: int) -> fieldmap.FieldMapFit:
+    """The map's fit, kept for the same bytes and settings: a form rebuilds the measurement on every entry,
+    and refitting an unchanged map each time is the slow part.  The fit is immutable, so sharing it is safe."""
+    fmap = fieldmap.read_map(Path(path), nucleus=nucleus, codata=codata, data=raw.data)
+    return fieldmap.fit_map(fmap, order)
 
 
 def _sample_region(ctx: Context, fm) -> dict | None:
