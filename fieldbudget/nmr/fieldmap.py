@@ -70,7 +70,6 @@ from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
-from scipy import special, stats
 
 from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
@@ -225,6 +224,8 @@ def _poly_shift(poly: Poly, centre: tuple[float, float, float]) -> dict:
 
 
 def _half_gamma(p: int) -> float:
+    from scipy import special  # scipy is imported where it is used: importing the NMR layer stays light
+
     return special.gamma((p + 1) / 2)
 
 
@@ -232,6 +233,8 @@ def _monomial_mean(a: int, b: int, c: int, shape: str, dims: tuple[float, ...], 
     """Mean of x^a y^b z^c over a ball (dims = (radius,)) or cylinder ((radius, length), along ``axis``) at 0."""
     if a % 2 or b % 2 or c % 2:
         return 0.0
+    from scipy import special
+
     if shape == "sphere":
         (r,) = dims
         s = a + b + c
@@ -594,6 +597,8 @@ def fit_map(fmap: FieldMap, order: int = 4, *, about_m=(0.0, 0.0, 0.0), basis: s
     if weighted:
         chi2 = float(np.sum((resid * w) ** 2))
         chi2_red = chi2 / dof
+        from scipy import stats
+
         prob = float(stats.chi2.sf(chi2, dof))
         if prob < FLAG_PROBABILITY:
             representable = False

@@ -58,7 +58,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
@@ -405,6 +404,8 @@ def _sort_check(x: np.ndarray, where: str, name: str) -> np.ndarray:
 
 def _solve(fun, p0: np.ndarray, where: str):
     try:
+        from scipy.optimize import least_squares  # scipy is imported where it is used: importing the NMR layer stays light
+
         res = least_squares(fun, p0, jac=lambda p: fun(p, jac=True)[1], method="lm", x_scale="jac")
     except (ValueError, np.linalg.LinAlgError) as err:
         raise InputError("trace", "data the fit cannot follow", f"a recorded line ({err})", where) from None
