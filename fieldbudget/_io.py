@@ -46,6 +46,7 @@ __all__ = [
     "read_json_file",
     "read_object_file",
     "read_named_text",
+    "read_named_file",
     "allow_outside_files",
     "outside_files_allowed",
     "json_pointer",
@@ -233,6 +234,14 @@ def read_named_text(name: str, base_dir: str | os.PathLike, where: str, pointer:
     allowed.  Errors name the naming file, the pointer and ``name`` as written,
     never the other file's contents.  Returns ``(text, resolved path)``.
     """
+    _, text, target = read_named_file(name, base_dir, where, pointer, allow_outside=allow_outside)
+    return text, target
+
+
+def read_named_file(name: str, base_dir: str | os.PathLike, where: str, pointer: str, *,
+                    allow_outside: bool | None = None) -> tuple[bytes, str, Path]:
+    """As :func:`read_named_text`, also giving the file's bytes (for a digest of exactly what was read):
+    returns ``(bytes, text, resolved path)``, the text without a leading byte-order mark."""
     if not isinstance(name, str) or not name.strip():
         raise BudgetFileError(where, pointer, f"must be the path of a file (text) (got {name!r})")
     base = Path(base_dir).resolve()
@@ -250,4 +259,4 @@ def read_named_text(name: str, base_dir: str | os.PathLike, where: str, pointer:
     except UnicodeDecodeError as err:
         raise BudgetFileError(where, pointer, f"byte {err.start} of {name!r} is not UTF-8 text; save it as "
                               "UTF-8") from None
-    return (text[1:] if text.startswith("\ufeff") else text), target
+    return data, (text[1:] if text.startswith("\ufeff") else text), target

@@ -42,3 +42,19 @@ def test_import_linter_contracts():
     exe = Path(sys.executable).with_name("lint-imports")
     proc = subprocess.run([str(exe)], capture_output=True, text=True, cwd=root)
     assert proc.returncode == 0, proc.stdout[-3000:]
+
+
+HEAVY = ("scipy.stats", "scipy.optimize", "scipy.special", "scipy.integrate")
+
+
+@pytest.mark.parametrize("module", ["fieldbudget.drafts.nmr_draft", "fieldbudget.nmr.measurement",
+                                    "fieldbudget.nmr.fieldmap", "fieldbudget.nmr.linefit"])
+def test_the_nmr_form_and_layer_import_no_scipy_submodule(module):
+    # scipy's statistics, optimisers, special functions and quadrature are imported by the functions that use
+    # them, so opening the NMR form does not wait for them; the form's field list loads every component
+    code = (f"import importlib, sys; importlib.import_module({module!r}); "
+            f"import fieldbudget.nmr.components as c; c.components(); "
+            f"print(','.join(m for m in {HEAVY!r} if m in sys.modules))")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.strip() == "", f"{module} imports {proc.stdout.strip()}"

@@ -20,7 +20,7 @@ import numpy as np
 
 from ..errors import BudgetFileError
 
-__all__ = ["Table", "read_table"]
+__all__ = ["Table", "digest_of", "read_table"]
 
 
 @dataclass(frozen=True)
@@ -39,19 +39,30 @@ class Table:
         return self.columns[name]
 
 
+def digest_of(raw: bytes) -> str:
+    """The ``"sha256:<hex>"`` digest a :class:`Table` of these bytes carries."""
+    return "sha256:" + hashlib.sha256(raw).hexdigest()
+
+
 def read_table(path: str | Path, *, needed: tuple[tuple[str, ...], ...], optional: tuple[str, ...] = (),
-               min_rows: int = 1, what: str = "table") -> Table:
+               min_rows: int = 1, what: str = "table", data: bytes | None = None) -> Table:
     """Read ``path``; each entry of ``needed`` is a group of alternative column names, one of which must be present.
 
-    Only the needed and optional columns are converted to numbers; others are
-    ignored.  Raises :class:`BudgetFileError` for an unreadable file, a
-    missing column, a cell that is not a finite number, or too few rows.
+    ``data``, when given, are the file's bytes already read (by a caller that
+    resolved and checked the path); the file is then not read again, and
+    ``path`` only names it.  Only the needed and optional columns are converted
+    to numbers; others are ignored.  Raises :class:`BudgetFileError` for an
+    unreadable file, a missing column, a cell that is not a finite number, or
+    too few rows.
     """
     p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except OSError as err:
-        raise BudgetFileError(str(p), "", f"cannot be read ({err.strerror or err})") from None
+    if data is not None:
+        raw = data
+    else:
+        try:
+            raw = p.read_bytes()
+        except OSError as err:
+            raise BudgetFileError(str(p), "", f"cannot be read ({err.strerror or err})") from None
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
@@ -104,4 +115,4 @@ def read_table(path: str | Path, *, needed: tuple[tuple[str, ...], ...], optiona
         arr = np.asarray(values[name], dtype=float)
         arr.setflags(write=False)
         columns[name] = arr
-    return Table(path=str(p), columns=columns, digest="sha256:" + hashlib.sha256(raw).hexdigest(), n_rows=n)
+    return Table(path=str(p), columns=columns, digest=digest_of(raw), n_rows=n)

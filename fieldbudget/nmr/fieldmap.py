@@ -70,7 +70,6 @@ from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
-from scipy import special, stats
 
 from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
@@ -225,6 +224,8 @@ def _poly_shift(poly: Poly, centre: tuple[float, float, float]) -> dict:
 
 
 def _half_gamma(p: int) -> float:
+    from scipy import special  # scipy is imported where it is used: importing the NMR layer stays light
+
     return special.gamma((p + 1) / 2)
 
 
@@ -232,6 +233,8 @@ def _monomial_mean(a: int, b: int, c: int, shape: str, dims: tuple[float, ...], 
     """Mean of x^a y^b z^c over a ball (dims = (radius,)) or cylinder ((radius, length), along ``axis``) at 0."""
     if a % 2 or b % 2 or c % 2:
         return 0.0
+    from scipy import special
+
     if shape == "sphere":
         (r,) = dims
         s = a + b + c
@@ -295,19 +298,21 @@ class FieldMap:
         return f"<FieldMap {self.n_points} points {u} per-point u{src}>"
 
 
-def read_map(path: str | Path, *, nucleus: str | None = None, codata: int | None = None) -> FieldMap:
+def read_map(path: str | Path, *, nucleus: str | None = None, codata: int | None = None,
+             data: bytes | None = None) -> FieldMap:
     """Read a CSV map: ``x_m,y_m,z_m`` and ``f_Hz`` or ``B_T``, optionally ``u_f_Hz`` or ``u_B_T``.
 
     An ``f_Hz`` map is converted to B with ``nucleus`` (default the shielded
     proton) in CODATA edition ``codata`` (default the newest): B = f/(gamma/2pi).
     The reference ratio's own uncertainty is common to every point; it scales
-    the whole map and is left to the budget that uses the map.
+    the whole map and is left to the budget that uses the map.  ``data``: the
+    file's bytes when already read (see :func:`~fieldbudget.nmr._csvdata.read_table`).
     """
     from .nuclei import DEFAULT_NUCLEUS
     from .nuclei import nucleus as _nucleus
 
     table = read_table(path, needed=(("x_m",), ("y_m",), ("z_m",), ("f_Hz", "B_T")), optional=("u_f_Hz", "u_B_T"),
-                       min_rows=2, what="field map")
+                       min_rows=2, what="field map", data=data)
     xyz = np.column_stack([table.column(c) for c in ("x_m", "y_m", "z_m")])
     if table.has("B_T"):
         if table.has("u_f_Hz"):
@@ -592,6 +597,8 @@ def fit_map(fmap: FieldMap, order: int = 4, *, about_m=(0.0, 0.0, 0.0), basis: s
     if weighted:
         chi2 = float(np.sum((resid * w) ** 2))
         chi2_red = chi2 / dof
+        from scipy import stats
+
         prob = float(stats.chi2.sf(chi2, dof))
         if prob < FLAG_PROBABILITY:
             representable = False

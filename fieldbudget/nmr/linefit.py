@@ -58,7 +58,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from .. import _display as D
 from ..errors import BudgetFileError, Finding, InputError
@@ -128,10 +127,12 @@ class Trace:
         return f"<Trace {what}, {self.n_points} points{src}>"
 
 
-def read_trace(path: str | Path) -> Trace:
-    """Read a CSV trace: ``f_Hz,signal`` or ``t_s,signal[,signal_im]`` (header row; ``#`` comment lines first)."""
+def read_trace(path: str | Path, *, data: bytes | None = None) -> Trace:
+    """Read a CSV trace: ``f_Hz,signal`` or ``t_s,signal[,signal_im]`` (header row; ``#`` comment lines first).
+
+    ``data``: the file's bytes when already read (see :func:`~fieldbudget.nmr._csvdata.read_table`)."""
     table = read_table(path, needed=(("f_Hz", "t_s"), ("signal",)), optional=("signal_im",), min_rows=8,
-                       what="trace")
+                       what="trace", data=data)
     axis = "f_Hz" if table.has("f_Hz") else "t_s"
     if axis == "f_Hz" and table.has("signal_im"):
         raise BudgetFileError(table.path, "header", "signal_im belongs to an FID (t_s); a swept line has f_Hz,signal")
@@ -403,6 +404,8 @@ def _sort_check(x: np.ndarray, where: str, name: str) -> np.ndarray:
 
 def _solve(fun, p0: np.ndarray, where: str):
     try:
+        from scipy.optimize import least_squares  # scipy is imported where it is used: importing the NMR layer stays light
+
         res = least_squares(fun, p0, jac=lambda p: fun(p, jac=True)[1], method="lm", x_scale="jac")
     except (ValueError, np.linalg.LinAlgError) as err:
         raise InputError("trace", "data the fit cannot follow", f"a recorded line ({err})", where) from None

@@ -41,7 +41,6 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
-from scipy import optimize, special
 
 from ..errors import InputError
 
@@ -61,6 +60,8 @@ def ring_field_z(q: float, a: float, rho: np.ndarray, dz: np.ndarray) -> np.ndar
     dz = np.asarray(dz, dtype=float)
     plus = (rho + a) ** 2 + dz**2
     m = 4.0 * a * rho / plus
+    from scipy import special  # scipy is imported where it is used: importing the NMR layer stays light
+
     return q / (4.0 * math.pi) * (2.0 / math.pi) * dz * special.ellipe(m) / (((rho - a) ** 2 + dz**2) * np.sqrt(plus))
 
 
@@ -166,6 +167,8 @@ class LocalField:
 
         def lorentz(v, h, c, g):
             return h / (1.0 + ((v - c) / g) ** 2)
+
+        from scipy import optimize
 
         (h, c, g), _ = optimize.curve_fit(lorentz, xs, ys, p0=(y[i], top, half), maxfev=20000)
         return float(c - mean)

@@ -42,7 +42,6 @@ import math
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate, optimize, special
 
 from ..errors import InputError
 
@@ -192,10 +191,6 @@ def demag_long_cylinder(axis: str) -> float:
 _J1SQ_OVER_X2 = 4.0 / (3.0 * math.pi)
 
 
-def _j1sq_over_x2(x):
-    return special.j1(x) ** 2 / x**2
-
-
 def demag_cylinder_axial(length_over_diameter: float) -> float:
     """Axial magnetometric demagnetizing factor N_z of a right circular cylinder (chi -> 0).
 
@@ -212,12 +207,17 @@ def demag_cylinder_axial(length_over_diameter: float) -> float:
 
 @lru_cache(maxsize=512)  # forms re-evaluate the same ratio on every keystroke; a quadrature is 1-60 ms
 def _demag_cylinder_axial(g: float) -> float:
+    from scipy import integrate, special  # imported where used: importing the NMR layer stays light
+
+    def j1sq_over_x2(x):
+        return special.j1(x) ** 2 / x**2
+
     if g >= 0.1:
-        damped, _ = integrate.quad(lambda x: _j1sq_over_x2(x) * math.exp(-2.0 * g * x), 0.0, np.inf, limit=200)
+        damped, _ = integrate.quad(lambda x: j1sq_over_x2(x) * math.exp(-2.0 * g * x), 0.0, np.inf, limit=200)
         return (_J1SQ_OVER_X2 - damped) / g
 
     def f(x):
-        return _j1sq_over_x2(x) * -math.expm1(-2.0 * g * x)
+        return j1sq_over_x2(x) * -math.expm1(-2.0 * g * x)
 
     edges = np.arange(0.0, 3000.0, math.pi)
     total = sum(integrate.quad(f, a, b)[0] for a, b in itertools.pairwise(edges))
@@ -239,6 +239,8 @@ def demag_cylinder(length_over_diameter: float) -> tuple[float, float]:
 
 def isotropic_cylinder_aspect_ratio() -> float:
     """The length/diameter ratio at which a cylinder has N = 1/3 along every axis (about 0.9065)."""
+    from scipy import optimize
+
     return float(optimize.brentq(lambda g: demag_cylinder_axial(g) - 1.0 / 3.0, 0.5, 1.5, xtol=1e-12))
 
 
@@ -276,6 +278,8 @@ def demag_ellipsoid(a_m: float, b_m: float, c_m: float) -> tuple[float, float, f
     s = max(axes)
     a, b, c = (x / s for x in axes)
     k = a * b * c / 3.0
+    from scipy import special
+
     return (float(k * special.elliprd(b * b, c * c, a * a)),
             float(k * special.elliprd(c * c, a * a, b * b)),
             float(k * special.elliprd(a * a, b * b, c * c)))

@@ -167,3 +167,39 @@ def test_loading_a_counter_file_replaces_a_csv_reference(tmp_path):
     assert d.load_counter_csv(csv.encode())
     assert "readings_csv" not in d.description()["frequency"]
     assert d.result.standard_uncertainty == by_reference  # the same readings, typed in now
+
+
+def _write_map(path, slope_z_t_per_m):
+    # an invented source-free field: uniform plus linear gradients (harmonic), on a 5 x 5 x 5 grid
+    g = [-0.01 + 0.005 * i for i in range(5)]
+    rows = "".join(f"{x},{y},{z},{1.0 + 2e-4 * x + slope_z_t_per_m * z:.12f}\n" for x in g for y in g for z in g)
+    path.write_text("x_m,y_m,z_m,B_T\n" + rows)
+
+
+def test_a_field_map_is_fitted_again_only_when_its_file_or_settings_change(tmp_path, monkeypatch):
+    from fieldbudget.nmr import fieldmap
+    from fieldbudget.nmr.components import field_map
+
+    fits = []
+    original = fieldmap.fit_map
+    monkeypatch.setattr(fieldmap, "fit_map", lambda *a, **k: fits.append(a[1:]) or original(*a, **k))
+    field_map._fitted_map.cache_clear()  # a fit of the same bytes cached by another test would hide the count
+    _write_map(tmp_path / "map.csv", 5e-4)
+    desc = nmr_description()
+    for k in ("gradient_T_per_m", "u_gradient_T_per_m", "offset_m", "u_offset_m"):
+        del desc[k]
+    desc["field_map"] = {"path": "map.csv", "sample_position_m": [0.001, 0.0, 0.002], "order": 2}
+    d = NMRDraft(desc, base_dir=tmp_path)
+    assert d.current, d.errors
+    assert fits == [(2,)]
+    assert d.set("sample.u_temperature_C", "0.2"), d.errors  # an entry elsewhere: the same fit
+    assert d.set("frequency.counter_resolution_Hz", "0.02"), d.errors
+    assert fits == [(2,)]
+    assert d.set("field_map.order", "1"), d.errors  # a setting of the fit
+    assert fits == [(2,), (1,)]
+    before = d.budget.input("G_z").estimate
+    _write_map(tmp_path / "map.csv", 6e-4)  # new bytes: the next build refits
+    assert d.set("sample.u_temperature_C", "0.3"), d.errors
+    assert fits == [(2,), (1,), (1,)]
+    assert d.budget.input("G_z").estimate == pytest.approx(6e-4, rel=1e-9) and before == pytest.approx(5e-4, rel=1e-9)
+    field_map._fitted_map.cache_clear()  # leave no fit made under the counting stand-in

@@ -13,7 +13,7 @@ import math
 from ...engine import InputQuantity, Normal
 from .. import physics
 from ._base import Built, Component, Context, Key, Term
-from .shape import SHAPES
+from .shape import SHAPES, cylinder_size
 
 
 def _build(ctx: Context) -> Built | None:
@@ -32,15 +32,9 @@ def _build(ctx: Context) -> Built | None:
     ud = sample.number("u_diameter_m", 0.0, nonnegative=True)
     length, ul = None, 0.0
     if shape == "cylinder":
-        length = sample.number("length_m", positive=True)
-        ul = sample.number("u_length_m", 0.0, nonnegative=True)
+        _, length, ul = cylinder_size(sample)
         if length is None:
-            g = sample.number("length_over_diameter", positive=True)
-            if g is None:
-                raise sample.fail("length_m", "missing: the cylinder length in m is needed for the curvature term")
-            length = g * d
-            # L = g D: its u follows from u(D) and u(g)
-            ul = math.hypot(g * ud, d * sample.number("u_length_over_diameter", 0.0, nonnegative=True))
+            raise sample.fail("length_m", "missing: the cylinder length in m is needed for the curvature term")
     axis = sample.choice("axis", ("parallel", "perpendicular"), "parallel")
 
     def q_of(dd, ll):

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..._io import read_named_text
+from ..._io import read_named_file
 from ...engine import InputQuantity, Normal, Rectangular
 from ...errors import BudgetFileError, InputError
 from .. import physics
@@ -36,10 +36,10 @@ def _log(dr: Reader, ctx: Context) -> tuple[np.ndarray, float | None, str]:
     if not isinstance(spec, Mapping) or not all(isinstance(spec.get(k), str) for k in keys) or set(spec) - set(keys):
         raise BudgetFileError(m.where, ptr, "must be an object with 'path', 'time_column' (s) and 'column' (Hz), "
                                             "all text")
-    _, target = read_named_text(spec["path"], m.base_dir, m.where, f"{ptr}/path")
+    raw, _, target = read_named_file(spec["path"], m.base_dir, m.where, f"{ptr}/path")
     try:
         table = read_table(Path(target), needed=((spec["time_column"],), (spec["column"],)), min_rows=3,
-                           what="drift log")
+                           what="drift log", data=raw)
     except BudgetFileError as err:
         raise BudgetFileError(m.where, ptr, f"{spec['path']!r}, {err.pointer}: {err.reason}") from None
     t = table.column(spec["time_column"])

@@ -14,12 +14,16 @@ come with it.
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path
 
-from ..._io import read_named_text
+from ..._io import read_named_file
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import fieldmap
+from .._csvdata import digest_of
 from ._base import Built, Component, Context, Key, Term
+from .shape import cylinder_size
 
 
 def _build(ctx: Context) -> Built | None:
@@ -42,11 +46,10 @@ def _build(ctx: Context) -> Built | None:
     order = fm.number("order", 4.0)
     if order != int(order):
         raise fm.fail("order", f"must be a whole number (got {order!r})")
-    _, target = read_named_text(name, m.base_dir, m.where, fm.at("path"))
+    raw, _, target = read_named_file(name, m.base_dir, m.where, fm.at("path"))
     sample = _sample_region(ctx, fm)
     try:
-        fmap = fieldmap.read_map(Path(target), nucleus=ctx.nucleus.name, codata=ctx.codata)
-        fit = fieldmap.fit_map(fmap, int(order))
+        fit = _fitted_map(_MapBytes(digest_of(raw), raw), str(target), ctx.nucleus.name, ctx.codata, int(order))
         terms = fieldmap.sample_terms(fit, pos, reference_point_m=ref, u_sample_position_m=u_pos, sample=sample)
     except BudgetFileError as err:
         raise BudgetFileError(m.where, fm.at("path"), f"{name!r}, {err.pointer}: {err.reason}") from None
@@ -60,6 +63,22 @@ def _build(ctx: Context) -> Built | None:
                  correlations=tuple(terms.correlations), findings=tuple(fit.warnings))
 
 
+@dataclass(frozen=True)
+class _MapBytes:
+    """A map file's bytes, compared and hashed by their digest only (the cache key stays small to hash)."""
+
+    digest: str
+    data: bytes = field(compare=False, repr=False)
+
+
+@lru_cache(maxsize=4)
+def _fitted_map(raw: _MapBytes, path: str, nucleus: str, codata: int | None, order: int) -> fieldmap.FieldMapFit:
+    """The map's fit, kept for the same bytes and settings: a form rebuilds the measurement on every entry,
+    and refitting an unchanged map each time is the slow part.  The fit is immutable, so sharing it is safe."""
+    fmap = fieldmap.read_map(Path(path), nucleus=nucleus, codata=codata, data=raw.data)
+    return fieldmap.fit_map(fmap, order)
+
+
 def _sample_region(ctx: Context, fm) -> dict | None:
     sample = ctx.section("sample")
     shape = sample.choice("shape", ("sphere", "cylinder", "long-cylinder", "spheroid", "ellipsoid")) or "sphere"
@@ -70,12 +89,9 @@ def _sample_region(ctx: Context, fm) -> dict | None:
         return {"shape": "sphere", "diameter_m": d}
     if shape != "cylinder":
         raise fm.fail(None, f"a map's volume average needs a sphere or a finite cylinder (sample shape is {shape!r})")
-    length = sample.number("length_m", positive=True)
+    length = cylinder_size(sample).length_m
     if length is None:
-        g = sample.number("length_over_diameter", positive=True)
-        if g is None:
-            raise sample.fail("length_m", "missing: the cylinder length in m is needed for the map's volume average")
-        length = g * d
+        raise sample.fail("length_m", "missing: the cylinder length in m is needed for the map's volume average")
     axis = fm.choice("sample_axis") or ("z" if sample.choice("axis", ("parallel", "perpendicular")) == "parallel"
                                         else "x")
     return {"shape": "cylinder", "diameter_m": d, "length_m": length, "axis": axis}

@@ -81,6 +81,8 @@ def _plausibility(ctx: Context, f_hz: float, key: str):
 
 
 def _csv_readings(fr: Reader, m) -> tuple[float, ...]:
+    # not nmr._csvdata.read_table: a counter file skips blank cells, counts rows rather than lines, and its
+    # messages name the pointer here and never quote the file's header or cells, which read_table does
     spec = fr.data["readings_csv"]
     ptr = fr.at("readings_csv")
     if not isinstance(spec, Mapping) or not isinstance(spec.get("path"), str) or not isinstance(

@@ -10,6 +10,9 @@ left implicit adds nothing.
 
 from __future__ import annotations
 
+import math
+from typing import NamedTuple
+
 from ... import constants
 from ...engine import InputQuantity, Normal
 from .. import physics
@@ -21,15 +24,28 @@ CHI_TC = "relative temperature coefficient of the volume magnetic susceptibility
 CHI_T = "reference temperature of the volume magnetic susceptibility of water"
 
 
-def cylinder_ratio(sample: Reader) -> float | None:
-    """L/D of a finite cylinder from length_over_diameter, or diameter_m and length_m; None if neither."""
+class CylinderSize(NamedTuple):
+    """A finite cylinder's L/D, length L and u(L) in m, each None where the sample section cannot give it."""
+
+    ratio: float | None
+    length_m: float | None
+    u_length_m: float | None
+
+
+def cylinder_size(sample: Reader) -> CylinderSize:
+    """L/D and L of a finite cylinder, each as stated (``length_over_diameter``, ``length_m`` with
+    ``u_length_m``) or else derived from the other and ``diameter_m``: L/D = L / D, or L = (L/D) D with
+    u(L) from u(D) and u(L/D) by the first-order law of propagation (JCGM 100:2008 5.1.2)."""
     g = sample.number("length_over_diameter", positive=True)
-    if g is None:
-        d, length = sample.number("diameter_m", positive=True), sample.number("length_m", positive=True)
-        if d is None or length is None:
-            return None
-        g = length / d
-    return g
+    d, length = sample.number("diameter_m", positive=True), sample.number("length_m", positive=True)
+    ratio = g if g is not None else (length / d if d is not None and length is not None else None)
+    if length is not None:
+        return CylinderSize(ratio, length, sample.number("u_length_m", 0.0, nonnegative=True))
+    if g is None or d is None:
+        return CylinderSize(ratio, None, None)
+    ud = sample.number("u_diameter_m", 0.0, nonnegative=True)
+    ug = sample.number("u_length_over_diameter", 0.0, nonnegative=True)
+    return CylinderSize(ratio, g * d, math.hypot(g * ud, d * ug))
 
 
 def _build(ctx: Context) -> Built | None:
@@ -90,7 +106,7 @@ def _build(ctx: Context) -> Built | None:
         factor = f"(1 + chi * (1 + c_chi * ({t_sym} - t_chi)) * (1/3 - N_d))"
     ctx.facts["shape"] = {"shape": shape, "N_d": n, "chi": chi,
                           "axis": sample.choice("axis", ("parallel", "perpendicular")),
-                          "ratio": cylinder_ratio(sample) if shape == "cylinder" else None}
+                          "ratio": cylinder_size(sample).ratio if shape == "cylinder" else None}
     return Built(inputs=tuple(qs), terms=(Term("denominator", factor),))
 
 
@@ -116,7 +132,7 @@ def _demag(sample: Reader, shape: str | None) -> tuple[float, float, str]:
     if shape == "long-cylinder":
         return physics.demag_long_cylinder(axis), u_given or 0.0, f"long cylinder {axis} to B0"
     if shape == "cylinder":
-        g = cylinder_ratio(sample)
+        g = cylinder_size(sample).ratio
         if g is None:
             raise sample.fail("length_over_diameter", "missing: give it, or diameter_m and length_m")
         ug = sample.number("u_length_over_diameter", 0.0, nonnegative=True)

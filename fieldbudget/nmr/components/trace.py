@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..._io import read_named_text
+from ..._io import read_named_file
 from ...engine import InputQuantity, Normal
 from ...errors import BudgetFileError, FieldbudgetError
 from .. import linefit
@@ -36,9 +36,9 @@ def _build(ctx: Context) -> Built | None:
     for k in ("snr", "points_per_fwhm", "amplitude_to_noise", "t2_s"):
         if ln.has(k):
             raise ln.fail(k, "give either trace_csv (a recorded trace) or the stated fit/FID keys, not both")
-    _, target = read_named_text(name, m.base_dir, m.where, ln.at("trace_csv"))
+    raw, _, target = read_named_file(name, m.base_dir, m.where, ln.at("trace_csv"))
     try:
-        trace = linefit.read_trace(Path(target))
+        trace = linefit.read_trace(Path(target), data=raw)
         fit = linefit.fit_trace(trace, ln.choice("trace_kind"), reference_hz=ln.number("trace_reference_Hz", 0.0))
     except BudgetFileError as err:
         raise BudgetFileError(m.where, ln.at("trace_csv"), f"{name!r}, {err.pointer}: {err.reason}".replace(
