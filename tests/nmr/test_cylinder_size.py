@@ -28,8 +28,17 @@ def test_length_from_ratio_and_diameter_carries_both_uncertainties():
 def test_stated_values_are_used_as_given():
     s = _size(diameter_m=0.004, length_m=0.01, u_length_m=1e-4)
     assert (s.ratio, s.length_m, s.u_length_m) == (0.01 / 0.004, 0.01, 1e-4)
-    s = _size(diameter_m=0.004, length_m=0.01, length_over_diameter=2.4)
-    assert (s.ratio, s.length_m, s.u_length_m) == (2.4, 0.01, 0.0)
+    s = _size(diameter_m=0.004, length_m=0.01, length_over_diameter=2.5)  # both given, alike
+    assert (s.ratio, s.length_m, s.u_length_m) == (2.5, 0.01, 0.0)
+
+
+def test_length_and_ratio_that_disagree_are_refused():
+    # regression: the shape used L/D = 2.4 and the curvature and field map L = 10 mm (L/D 2.5) of one sample
+    from fieldbudget.errors import BudgetFileError
+
+    with pytest.raises(BudgetFileError, match=r"#/sample/length_m: must agree with length_over_diameter x "
+                                              r"diameter_m = 0.0096 m \(got 0.01 m\)"):
+        _size(diameter_m=0.004, length_m=0.01, length_over_diameter=2.4)
 
 
 def test_missing_dimensions_give_none():

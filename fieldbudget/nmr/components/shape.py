@@ -39,6 +39,10 @@ def cylinder_size(sample: Reader) -> CylinderSize:
     g = sample.number("length_over_diameter", positive=True)
     d, length = sample.number("diameter_m", positive=True), sample.number("length_m", positive=True)
     ratio = g if g is not None else (length / d if d is not None and length is not None else None)
+    if g is not None and d is not None and length is not None and abs(length / d - g) > 1e-6 * g:
+        # the shape would use L/D and the curvature and field map L: one sample, two sizes
+        raise sample.fail("length_m", f"must agree with length_over_diameter x diameter_m = {g * d:.6g} m "
+                                      f"(got {length:.6g} m); give one of the two, or both alike")
     if length is not None:
         return CylinderSize(ratio, length, sample.number("u_length_m", 0.0, nonnegative=True))
     if g is None or d is None:
