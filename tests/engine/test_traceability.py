@@ -76,3 +76,16 @@ def test_a_missing_identity_is_said_and_the_source_text_shown_beside_it():
     assert chain["y_tb3"].text == "calibration: certificate not identified"
     # one measured value is not a Type A evaluation (JCGM 100:2008 4.2 needs repeated observations)
     assert chain["t_s"].text.startswith("measured in this measurement (one value") and "Type A" not in chain["t_s"].text
+
+
+def test_the_gradient_names_its_report_when_the_file_gives_one():
+    import json
+
+    d = json.loads(open(README_EXAMPLE, encoding="utf-8").read())
+    d["gradient_T_per_m"], d["u_gradient_T_per_m"] = 1e-4, 2e-5
+    d["offset_m"], d["u_offset_m"] = 0.0, 2e-4
+    without = traceability(NMRMeasurement.from_dict(d).to_budget())["G_z"].text
+    assert without == "laboratory characterisation (report not identified); source given: stated field gradient"
+    d["gradient_report"] = "BFSL-FM-2026-017 (invented)"
+    assert traceability(NMRMeasurement.from_dict(d).to_budget())["G_z"].text == (
+        "laboratory characterisation, report BFSL-FM-2026-017 (invented)")

@@ -35,6 +35,8 @@ def _build(ctx: Context) -> Built | None:
             raise top.fail(key, f"must have as many entries as gradient_T_per_m ({n})")
     ug = ug or (0.0,) * n
     ux = ux or (0.0,) * n
+    report = top.text("gradient_report")
+    prov = {"report": report} if report else {}
     axes = ("z",) if n == 1 else _AXES[:n]
     inputs, terms = [], []
     second = False
@@ -43,7 +45,8 @@ def _build(ctx: Context) -> Built | None:
             continue  # no gradient along this axis: the offset cannot matter, and the engine would flag it
         inputs += [
             InputQuantity(f"G_{ax}", g[i], Normal(u=ug[i]), unit="T/m", source="stated field gradient",
-                          description=f"field gradient dB/d{ax} at the sample", role="lab_characterisation"),
+                          description=f"field gradient dB/d{ax} at the sample", role="lab_characterisation",
+                          provenance=prov),
             InputQuantity(f"{ax}_off", x[i], Normal(u=ux[i]), unit="m", source="probe positioning",
                           description=f"{ax} of the sample centre minus the reference point", role="measured"),
         ]
@@ -63,6 +66,8 @@ COMPONENT = Component(
         Key("u_gradient_T_per_m", "vector", "its standard uncertainty", unit="T/m", max_items=3, lo=0.0),
         Key("offset_m", "vector", "sample centre minus reference point", unit="m", max_items=3),
         Key("u_offset_m", "vector", "its standard uncertainty", unit="m", max_items=3, lo=0.0),
+        Key("gradient_report", "text", "gradient measured in", "the lab's report of the field map or gradient "
+            "measurement, named in the traceability chain"),
     ),
     build=_build,
 )
