@@ -81,8 +81,8 @@ CASES = [
      "counter_resolution, days_since_calibration, frequency_readings, gradient, gradient_u, instrument, line_fwhm, "
      "line_points, line_snr, magnet_current, measurement_id, nucleus, offset, offset_u, operator, probe_id, "
      "probe_perturbation, probe_perturbation_u, probe_report, probe_source, sample_shape, sample_temperature, "
-     "sample_temperature_u, timebase_ageing, timebase_calibration_date, timebase_certificate, "
-     "timebase_certificate_id, timebase_offset, timebase_u) (got 'line_noise')")),
+     "sample_temperature_u, timebase_ageing, timebase_ageing_document, timebase_calibration_date, "
+     "timebase_certificate, timebase_certificate_id, timebase_offset, timebase_u) (got 'line_noise')")),
     (lambda d: _set(d, ["steps", 3, "components"], ["days_since_calibration", "line_fwhm"]),
      ("lab.toml, at steps[3].components[1]: must not repeat a component already shown in steps[2] "
      "(got 'line_fwhm')")),

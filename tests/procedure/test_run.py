@@ -33,7 +33,8 @@ def test_measurement_dict_equals_hand_written(run):
                      "days_since_calibration": 140.0,
                      "source": "OCXO s/n OX-55031 in counter DEMO-FC-9 s/n FC9-30118, certificate "
                                "LMCL-FS-2026-0712 of 2026-08-04 (invented)",
-                     "certificate": "LMCL-FS-2026-0712", "calibration_date": "2026-08-04"},
+                     "certificate": "LMCL-FS-2026-0712", "calibration_date": "2026-08-04",
+                     "ageing_document": "data sheet of OCXO s/n OX-55031 and the lab's drift log DL-FS-03 (invented)"},
         "sample": {"temperature_C": 23.1, "u_temperature_C": 0.3, "shape": "sphere"},
         "line": {"fwhm_Hz": 8.0, "snr": 60.0, "points_per_fwhm": 10.0},
         "gradient_T_per_m": 2.0e-4,

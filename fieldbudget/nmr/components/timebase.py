@@ -34,9 +34,11 @@ def _build(ctx: Context) -> Built | None:
     if tb.has("ageing_per_day") or tb.has("days_since_calibration"):
         rate = tb.number("ageing_per_day", required=True)
         days = tb.number("days_since_calibration", required=True, nonnegative=True)
+        doc = tb.text("ageing_document")
         qs.append(InputQuantity("y_age", 0.0, Rectangular(half_width=abs(rate) * days), unit="",
                                 source=f"ageing {rate:g}/day x {days:g} days since calibration: rectangular bound",
-                                description="timebase ageing since its calibration", role="specification"))
+                                description="timebase ageing since its calibration", role="specification",
+                                provenance={"document": doc} if doc else {}))
         terms.append(Term("fraction", "y_age"))
     return Built(inputs=tuple(qs), terms=tuple(terms))
 
@@ -58,6 +60,8 @@ COMPONENT = Component(
             "traceability chain"),
         Key("issuer", "text", "issued by", "the calibration laboratory that issued it"),
         Key("calibration_date", "text", "date of calibration", "as on the certificate (YYYY-MM-DD)"),
+        Key("ageing_document", "text", "ageing rate from", "the specification or drift history the ageing rate "
+            "comes from, named in the traceability chain"),
     ),
     build=_build,
 )
