@@ -89,3 +89,15 @@ def test_the_gradient_names_its_report_when_the_file_gives_one():
     d["gradient_report"] = "BFSL-FM-2026-017 (invented)"
     assert traceability(NMRMeasurement.from_dict(d).to_budget())["G_z"].text == (
         "laboratory characterisation, report BFSL-FM-2026-017 (invented)")
+
+
+def test_the_timebase_ageing_names_its_document_when_the_file_gives_one():
+    import json
+
+    d = json.loads(open(README_EXAMPLE, encoding="utf-8").read())
+    d["timebase"] = {"offset": 1e-9, "u": 5e-10, "ageing_per_day": 3e-11, "days_since_calibration": 30}
+    assert traceability(NMRMeasurement.from_dict(d).to_budget())["y_age"].text.startswith(
+        "specification (document not named); source given: ageing 3e-11/day x 30 days")
+    d["timebase"]["ageing_document"] = "OCXO data sheet rev. B (invented)"
+    assert traceability(NMRMeasurement.from_dict(d).to_budget())["y_age"].text == (
+        "specification: OCXO data sheet rev. B (invented)")
