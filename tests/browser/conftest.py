@@ -141,16 +141,18 @@ def voila(chromium, served, tmp_path_factory):
         log = open(log_path, "w")  # noqa: SIM115 - closed after the server stops, at teardown
         proc = subprocess.Popen(cmd, stdout=log, stderr=subprocess.STDOUT, env=isolated_env(home),
                                 cwd=notebook.parent)
-        procs.append((proc, log))
+        procs.append((proc, log, log_path))
         _wait_port(port, proc, log_path)
         return f"http://127.0.0.1:{port}/?token={token}"
 
     try:
         yield start
     finally:
-        for proc, log in procs:
+        for proc, log, log_path in procs:
             _stop(proc)
             log.close()
+            # pytest shows a fixture's teardown output only when the test failed: the server's side of it
+            print(f"--- end of {log_path} ---\n" + log_path.read_text(errors="replace")[-3000:])
 
 
 @pytest.fixture(scope="module")  # closed per module: a live sync_playwright blocks later ones in the session

@@ -48,7 +48,8 @@ def test_nmr_form_in_voila(voila, served, browser_context, artifact_dir):
     try:
         page.goto(voila(path))
         uc = page.locator(".fb-budget-table td.fb-uc").first
-        expect(uc).to_have_text(before, timeout=90_000)
+        # the first render waits for Voila's kernel to start and import the kit: long on a loaded machine
+        expect(uc).to_have_text(before, timeout=180_000)
         box = page.locator(".fb-field-sample-u-temperature-C input").first
         box.fill(CHANGE[1])
         box.press("Enter")
