@@ -26,6 +26,7 @@ __all__ = [
     "MonteCarloCancelled",
     "ReportToolMissing",
     "Finding",
+    "is_note",
     "FieldbudgetWarning",
     "PhysicsWarning",
     "CalibrationRangeWarning",
@@ -244,6 +245,11 @@ class Finding(str):
         if isinstance(w, dict):
             return cls.from_dict(w)
         return cls(str(w))
+
+
+def is_note(warning: object) -> bool:
+    """True for a :class:`Finding` of severity ``"note"``; a plain-text warning is a warning."""
+    return getattr(warning, "severity", "warning") == "note"
 
 
 class FieldbudgetWarning(UserWarning):

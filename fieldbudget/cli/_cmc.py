@@ -33,23 +33,25 @@ def _rows(scope) -> list[tuple[str, ...]]:
 
 def _text(scope) -> str:
     from .._display import text_table
+    from ..calibration.cmc import P14_EDITION
 
     head = ("measurand", "method / instrument", "range", "U (expanded, about 95 %)", "p")
     checks = [(r, "yes" if m else "NO", d) for r, m, d in scope.table.p14_checklist()]
     out = [scope.title or "Calibration and measurement capability", text_table(head, _rows(scope)), "",
-           f"{scope.table.to_dict()['policy']} checklist:", text_table(("requirement", "met", "detail"), checks)]
+           f"{P14_EDITION} checklist:", text_table(("requirement", "met", "detail"), checks)]
     out += [f"from {p} (SHA-256 {d})" for p, d in scope.sources]
     out += [f"warning: {w}" for w in scope.table.warnings]
     return "\n".join(out) + "\n"
 
 
 def _md(scope) -> str:
+    from ..calibration.cmc import P14_EDITION
     from ..report._env import escape_markdown as esc
 
     lines = [f"# {esc(scope.title or 'Calibration and measurement capability')}", "",
              "| measurand | method / instrument | range | U (expanded, about 95 %) | p |", "| --- | --- | --- | --- | --- |"]
     lines += ["| " + " | ".join(esc(c) for c in row) + " |" for row in _rows(scope)]
-    lines += ["", f"## {esc(scope.table.to_dict()['policy'])} checklist", "", "| requirement | met | detail |",
+    lines += ["", f"## {esc(P14_EDITION)} checklist", "", "| requirement | met | detail |",
               "| --- | --- | --- |"]
     lines += [f"| {esc(r)} | {'yes' if m else '**NO**'} | {esc(d)} |" for r, m, d in scope.table.p14_checklist()]
     if scope.sources:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..errors import InputError
+from ..errors import InputError, is_note
 from ..files.guard import check_output, same_file
 from ..files.measurement_record import record_file
 from ..files.record import load_record, save_record
@@ -80,7 +80,7 @@ def run(args: argparse.Namespace) -> int:
     from ..files.record_details import findings_of
 
     for f in findings_of(rec):
-        print(f"{'note' if getattr(f, 'severity', 'warning') == 'note' else 'warning'}: {f}")
+        print(f"{'note' if is_note(f) else 'warning'}: {f}")
     for c in rec.changes:
         print(f"changed: {c['change']} {c['what']}: {c['detail']}")
     for s in rec.signatures:

@@ -8,6 +8,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .. import _display as D
+from ..errors import is_note
 from .budget import Budget, Measurand
 from .coverage import exact_probability
 from .rounding import RoundedResult, round_result
@@ -230,7 +231,7 @@ class BudgetResult:
                          f"d_high = {D.fmt(v.d_high, 3)}{unit}, tolerance delta = {D.fmt(v.delta, 3)}{unit}.")
             lines += textwrap.wrap(v.advice, width)
         for w in self.warnings:  # a note records a choice made; a warning asks for attention
-            label = "note" if getattr(w, "severity", "warning") == "note" else "warning"
+            label = "note" if is_note(w) else "warning"
             lines += textwrap.wrap(f"{label}: {w}", width, subsequent_indent="  ")
         out = []
         for line in lines:

@@ -21,7 +21,7 @@ from types import MappingProxyType
 from typing import Any
 
 from .. import _display
-from ..errors import FieldbudgetError, InputError
+from ..errors import FieldbudgetError, InputError, is_note
 from .procedure import AcceptanceLimit, Component, Procedure, Step
 
 __all__ = ["AcceptanceReport", "LimitVerdict", "ProcedureRun", "result_quantities"]
@@ -112,7 +112,7 @@ def result_quantities(kind: str, result: Any) -> dict[str, float]:
     if warnings is None:
         warnings = getattr(result, "warnings", ())
     # a note (which documented choice was made, e.g. line noise in the readings) is not a warning to clear
-    out["warning_count"] = float(sum(1 for w in warnings or () if getattr(w, "severity", "warning") != "note"))
+    out["warning_count"] = float(sum(1 for w in warnings or () if not is_note(w)))
     if kind == "nmr-field":
         core = _core(result)
         for name, attr in (("value", "estimate"), ("standard_uncertainty", "standard_uncertainty"),

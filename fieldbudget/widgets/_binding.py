@@ -18,7 +18,7 @@ import ipywidgets as w
 
 from .._display import escape
 from ..drafts.field import Field, message_for
-from ..errors import FieldbudgetError
+from ..errors import FieldbudgetError, is_note
 
 __all__ = ["BoundText", "Cell", "css", "guarded", "message_html", "shared_blank", "shared_layout", "shared_style",
            "status_html", "user_words", "LAST_GOOD"]
@@ -96,7 +96,7 @@ def status_html(text: str | None, kind: str = "error") -> str:
 
 def finding_html(text) -> str:
     """One warning as HTML; a finding of severity "note" (a documented choice) is shown as a note, not a warning."""
-    if getattr(text, "severity", "warning") == "note":
+    if is_note(text):
         return status_html(str(text), "note")
     return f'<div class="fb-warning">{escape(text)}</div>'
 

@@ -40,7 +40,8 @@ def cylinder_size(sample: Reader) -> CylinderSize:
     d, length = sample.number("diameter_m", positive=True), sample.number("length_m", positive=True)
     ratio = g if g is not None else (length / d if d is not None and length is not None else None)
     if g is not None and d is not None and length is not None and abs(length / d - g) > 1e-6 * g:
-        # the shape would use L/D and the curvature and field map L: one sample, two sizes
+        # the shape would use L/D and the curvature and field map L: one sample, two sizes.  1e-6 relative is
+        # our choice: far below any stated dimension's uncertainty, above float rounding
         raise sample.fail("length_m", f"must agree with length_over_diameter x diameter_m = {g * d:.6g} m "
                                       f"(got {length:.6g} m); give one of the two, or both alike")
     if length is not None:
